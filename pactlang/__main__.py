@@ -1,0 +1,5 @@
+"""`python -m pactlang` -> the command line."""
+
+from .cli import main
+
+main()

@@ -1,0 +1,313 @@
+"""`Model` -> `Result`s: every requirement, in the baseline and each contingency.
+
+Coalition requirements (`stable`, `stable within ...`) are decided by one
+sweep over all coalitions (`sweep.excess_chunks`); chunks whose excesses were
+recovered exactly are judged with integer comparisons, the others through a
+pool of candidates that the float bounds cannot rule out, each evaluated in
+Fractions. Every counterexample and every worst excess printed is evaluated
+again from the model in Fractions before it is returned.
+"""
+
+from __future__ import annotations
+
+import heapq
+from dataclasses import dataclass, field
+from fractions import Fraction
+from math import floor
+
+import numpy as np
+
+from . import ast
+from .diagnostics import AgreementError, error
+from .formula import EvaluationError
+from .model import Model
+from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
+from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
+
+MAX_ENUMERATED = 24
+POOL_LIMIT = 200_000
+DEFAULT_TOP = 5
+
+
+@dataclass(frozen=True)
+class CheckOptions:
+    top: int = DEFAULT_TOP
+    time_limit: float | None = None
+    low_bits: int | None = None  # tests lower it to exercise several chunks
+
+
+def _allowed(req: ast.Require, worth: Fraction) -> Fraction:
+    """The excess a coalition may have under a `stable` requirement."""
+    if req.kind == "stable":
+        return Fraction(0)
+    bound = req.bound
+    if isinstance(bound, ast.Percent):
+        return bound.value * abs(worth)
+    return bound.value
+
+
+def _size(mask: int) -> int:
+    return bin(mask).count("1")
+
+
+@dataclass
+class _Tracker:
+    """Worst excess and the top-K violators of one coalition requirement."""
+
+    req: ast.Require
+    top: int
+    worst: tuple[Fraction, int] | None = None  # exact (excess, mask)
+    worst_pool: list[int] = field(default_factory=list)  # masks still to evaluate exactly
+    worst_lb: float = -np.inf
+    violators: list[tuple[Fraction, int, int]] = field(default_factory=list)  # (-excess, size, mask)
+    viol_pool: list[int] = field(default_factory=list)
+    certain_lbs: list[float] = field(default_factory=list)  # min-heap of the top-K lower bounds
+    overflow: bool = False
+
+    @property
+    def relative(self) -> bool:
+        return isinstance(self.req.bound, ast.Percent)
+
+    @property
+    def ratio(self) -> Fraction:
+        return self.req.bound.value if self.req.kind == "within" else Fraction(0)
+
+    def kth_lb(self) -> float:
+        return self.certain_lbs[0] if len(self.certain_lbs) >= self.top else -np.inf
+
+    # ---------------------------------------------------------- exact chunks
+    def exact_chunk(self, masks, valid, chunk) -> None:
+        k, den = chunk.e_num, chunk.e_den
+        kv = np.where(valid, k, np.iinfo(np.int64).min)
+        best = int(np.argmax(kv))
+        if valid[best]:
+            cand = (Fraction(int(k[best]), den), int(masks[best]))
+            if self.worst is None or cand[0] > self.worst[0]:
+                self.worst = cand
+        if self.relative:
+            violating = valid & self._relative_violation(chunk)
+        else:
+            threshold = floor(self.ratio * den)  # k/den > eps  <=>  k > floor(eps * den)
+            violating = valid & (k > threshold)
+        idx = np.nonzero(violating)[0]
+        if idx.size == 0:
+            return
+        if idx.size > self.top:
+            vals = k[idx]
+            kth = np.partition(vals, idx.size - self.top)[idx.size - self.top]
+            idx = idx[vals >= kth]
+        for i in idx:
+            mask = int(masks[i])
+            self.violators.append((-Fraction(int(k[i]), den), _size(mask), mask))
+        self.violators = heapq.nsmallest(self.top, self.violators)
+
+    def _relative_violation(self, chunk) -> np.ndarray:
+        p = self.ratio
+        a_scale = chunk.v_den * p.denominator
+        b_scale = p.numerator * chunk.e_den
+        e_num, v_num = chunk.e_num, np.abs(chunk.v_num)
+        limit = 2**62
+        if (int(np.max(np.abs(e_num))) * a_scale < limit) and (int(np.max(v_num)) * b_scale < limit):
+            return e_num * a_scale > v_num * b_scale
+        lhs = e_num.astype(object) * a_scale
+        rhs = v_num.astype(object) * b_scale
+        return np.array(lhs > rhs, dtype=bool)
+
+    # ---------------------------------------------------------- inexact chunks
+    def inexact_chunk(self, masks, valid, chunk) -> None:
+        lb = chunk.e - chunk.e_err
+        ub = chunk.e + chunk.e_err
+        lb = np.where(valid & np.isfinite(lb), lb, -np.inf)
+        ub = np.where(valid, np.where(np.isnan(ub), np.inf, ub), -np.inf)
+        self.worst_lb = max(self.worst_lb, float(np.max(lb)))
+        self.worst_pool.extend(int(m) for m in masks[ub >= self.worst_lb])
+        p = float(self.ratio)
+        if self.relative:
+            absv = np.abs(chunk.v)
+            allowed_lo = p * np.maximum(absv - chunk.v_err, 0.0) * (1 - 4e-16)
+            allowed_hi = p * (absv + chunk.v_err) * (1 + 4e-16)
+        else:
+            allowed_lo = allowed_hi = p
+            spread = abs(float(self.ratio) - float(Fraction(float(self.ratio)))) * 2 + 1e-300
+            allowed_lo, allowed_hi = p - spread, p + spread
+        certain = valid & (lb > allowed_hi)
+        possible = valid & (ub > allowed_lo)
+        for value in np.sort(lb[certain])[-self.top:]:
+            heapq.heappush(self.certain_lbs, float(value))
+            if len(self.certain_lbs) > self.top:
+                heapq.heappop(self.certain_lbs)
+        self.viol_pool.extend(int(m) for m in masks[possible & (ub >= self.kth_lb())])
+        if len(self.worst_pool) + len(self.viol_pool) > POOL_LIMIT:
+            self.overflow = True
+            self.worst_pool.clear()
+            self.viol_pool.clear()
+
+    def settle(self, exact_excess) -> None:
+        """Evaluate the pools exactly and merge them into the exact results."""
+        for mask in set(self.worst_pool) | set(self.viol_pool):
+            e, w = exact_excess(mask)
+            if self.worst is None or e > self.worst[0]:
+                self.worst = (e, mask)
+            if e > _allowed(self.req, w):
+                self.violators.append((-e, _size(mask), mask))
+        self.violators = heapq.nsmallest(self.top, self.violators)
+        self.worst_pool, self.viol_pool = [], []
+
+
+class Checker:
+    """Checks the requirements of one model (one scenario)."""
+
+    def __init__(self, model: Model, options: CheckOptions, contingency: str | None = None,
+                 parameters: dict[str, Fraction] | None = None):
+        self.model = model
+        self.options = options
+        self.contingency = contingency
+        self.parameters = parameters or {}
+
+    def run(self) -> list[Result]:
+        model = self.model
+        requirements = model.requirements
+        try:
+            self.worths = Worths(model)
+            self.payouts = payout(self.worths)
+            worth_all = self.worths.worth_all
+        except PayoutUnavailable as exc:
+            return [self._result(r, UNKNOWN, None, "payout", reason=f"the payout cannot be computed: {exc}")
+                    for r in requirements]
+        except EvaluationError as exc:
+            if self.contingency is None:
+                raise AgreementError([error("evaluation", exc.message, exc.span or ast.Span(1, 1, 1, 2))]) from None
+            return [self._result(r, UNKNOWN, None, "payout", reason=exc.message) for r in requirements]
+        self.worth_all = worth_all
+        self.budget_excess = excess(model, worth_all, sum(self.payouts, Fraction(0)))
+        coalition_reqs = [r for r in requirements if r.kind in ("stable", "within")]
+        sweep_results = self._sweep(coalition_reqs) if coalition_reqs else {}
+        results = []
+        for req in requirements:
+            if req.kind in ("stable", "within"):
+                results.append(sweep_results[id(req)])
+            elif req.kind == "rational":
+                results.append(self._rational(req))
+            else:
+                results.append(self._budget(req))
+        return results
+
+    # ---------------------------------------------------------- helpers
+    def _result(self, req, status, worst, method, reason=None, counterexamples=(), worst_mask=None) -> Result:
+        return Result(
+            requirement=ast.requirement_text(req), line=req.span.line if req.span else 0,
+            contingency=self.contingency, status=status, worst_excess=worst, method=method,
+            reason=reason, counterexamples=tuple(counterexamples), span=req.span,
+            worst_coalition=tuple(self.model.names_of(worst_mask)) if worst_mask is not None else None,
+        )
+
+    def exact_excess(self, mask: int) -> tuple[Fraction, Fraction]:
+        """(excess, worth) of a coalition, exactly from the model."""
+        worth = self.worths.exact(mask)
+        return excess(self.model, worth, paid_by(self.payouts, mask)), worth
+
+    def counterexample(self, req, mask: int) -> Counterexample:
+        e, w = self.exact_excess(mask)
+        return Counterexample(tuple(self.model.names_of(mask)), w, paid_by(self.payouts, mask), e,
+                              _allowed(req, w), dict(self.parameters))
+
+    def _budget_counterexample(self) -> Counterexample:
+        m = self.model
+        return Counterexample(m.parties, self.worth_all, sum(self.payouts, Fraction(0)), self.budget_excess,
+                              Fraction(0), dict(self.parameters))
+
+    # ---------------------------------------------------------- requirements
+    def _rational(self, req) -> Result:
+        examples, worst, worst_mask = [], None, None
+        for i in range(self.model.n):
+            e, _ = self.exact_excess(1 << i)
+            if worst is None or e > worst:
+                worst, worst_mask = e, 1 << i
+            if e > 0:
+                examples.append((-e, i))
+        examples.sort()
+        cex = [self.counterexample(req, 1 << i) for _, i in examples[: self.options.top]]
+        for c in cex:
+            c.allowed  # noqa: B018 - allowed is 0 for individual rationality
+        status = FAILS if cex else HOLDS
+        return self._result(req, status, worst, "singletons", counterexamples=cex, worst_mask=worst_mask)
+
+    def _budget(self, req) -> Result:
+        ok = self.budget_excess == 0
+        cex = [] if ok else [self._budget_counterexample()]
+        return self._result(req, HOLDS if ok else FAILS, self.budget_excess, "exact sum",
+                            counterexamples=cex, worst_mask=self.model.full)
+
+    def _sweep(self, reqs) -> dict[int, Result]:
+        from .sweep import excess_chunks  # numpy work only when coalitions are checked
+
+        model = self.model
+        if model.n > MAX_ENUMERATED:
+            reason = (f"{model.n} parties is above the {MAX_ENUMERATED} that are checked by enumeration, "
+                      "and no other method applies to this agreement yet")
+            return {id(r): self._result(r, UNKNOWN, None, "enumeration", reason=reason) for r in reqs}
+        trackers = [_Tracker(r, self.options.top) for r in reqs]
+        full = model.full
+        for chunk in excess_chunks(self.worths, self.payouts, self.options.low_bits):
+            masks = chunk.masks
+            valid = (masks != 0) & (masks != full)
+            for t in trackers:
+                if chunk.e_num is not None:
+                    t.exact_chunk(masks, valid, chunk)
+                else:
+                    t.inexact_chunk(masks, valid, chunk)
+        out = {}
+        for t in trackers:
+            req = t.req
+            if t.overflow:
+                out[id(req)] = self._result(req, UNKNOWN, None, "enumeration", reason=(
+                    f"more than {POOL_LIMIT} coalitions could not be told apart in floating point "
+                    "and were too many to evaluate exactly"))
+                continue
+            t.settle(self.exact_excess)
+            out[id(req)] = self._verdict(t)
+        return out
+
+    def _verdict(self, t: _Tracker) -> Result:
+        req = t.req
+        worst_excess, worst_mask = (None, None) if t.worst is None else t.worst
+        if worst_mask is not None:
+            # the printed worst excess is re-derived from the model, exactly
+            worst_excess = self.exact_excess(worst_mask)[0]
+        cex = []
+        if self.budget_excess != 0:
+            cex.append(self._budget_counterexample())
+        for neg, _, mask in sorted(t.violators):
+            c = self.counterexample(req, mask)
+            if c.excess != -neg or not c.excess > c.allowed:
+                raise AssertionError(f"internal: counterexample {c.coalition} did not re-check exactly")
+            cex.append(c)
+        cex = cex[: self.options.top]
+        status = FAILS if cex else HOLDS
+        return self._result(req, status, worst_excess, "enumeration", counterexamples=cex, worst_mask=worst_mask)
+
+
+def check_model(model: Model, options: CheckOptions = CheckOptions()) -> list[Result]:
+    """All results: the baseline, then each contingency."""
+    results = Checker(model, options).run()
+    results.extend(_contingency_results(model, options))
+    return results
+
+
+def _contingency_results(model: Model, options: CheckOptions) -> list[Result]:
+    try:
+        from .contingencies import check_contingency
+    except ModuleNotFoundError as exc:
+        if exc.name != "pactlang.contingencies":
+            raise
+        check_contingency = None
+    results = []
+    for c in model.contingencies:
+        if check_contingency is None:
+            reason = "contingencies are parsed but not checked yet"
+            for req in model.requirements:
+                results.append(Result(ast.requirement_text(req), req.span.line if req.span else 0, c.name,
+                                      UNKNOWN, None, "none", reason=reason, span=req.span))
+            continue
+        results.extend(check_contingency(model, c, options))
+    return results

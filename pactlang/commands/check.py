@@ -1,0 +1,47 @@
+"""`pactlang check FILE...` -> verdicts in text, JSON or SARIF, and the exit code."""
+
+from __future__ import annotations
+
+import json
+import sys
+from enum import Enum
+from typing import List
+
+import typer
+
+
+class OutputFormat(str, Enum):
+    text = "text"
+    json = "json"
+    sarif = "sarif"
+
+
+def check(
+    files: List[str] = typer.Argument(..., help="Agreement files (.deal)."),
+    format: OutputFormat = typer.Option(OutputFormat.text, "--format", help="Output format."),
+    top: int = typer.Option(5, "--top", min=1, help="Counterexamples per requirement, worst first."),
+    time_limit: float = typer.Option(None, "--time-limit", help="Seconds per requirement before `unknown`."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress output."),
+) -> None:
+    """Check every requirement of the agreements, in the baseline and each contingency."""
+    from ..check import CheckOptions
+    from ..run import check_files
+
+    run, models = check_files(files, CheckOptions(top=top, time_limit=time_limit))
+    if format is OutputFormat.json:
+        from ..render_json import render_json
+
+        print(render_json(run))
+    elif format is OutputFormat.sarif:
+        from ..render_sarif import render_sarif
+
+        print(json.dumps(render_sarif(run, models), indent=2))
+    else:
+        from ..render_text import render_text, use_colour
+
+        print(render_text(run, colour=use_colour(sys.stdout)))
+    raise typer.Exit(run.exit_code)
+
+
+def register(app: typer.Typer) -> None:
+    app.command("check")(check)

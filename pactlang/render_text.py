@@ -1,0 +1,83 @@
+"""`RunReport` -> a report for people: verdicts, worst excess, worst coalitions."""
+
+from __future__ import annotations
+
+import os
+import sys
+
+from .numbers import human
+from .results import FAILS, HOLDS, UNKNOWN, FileReport, RunReport
+
+CAUTION = ("Results support negotiation; they do not replace legal, financial or "
+           "regulatory advice or local rules.")
+
+_COLOURS = {HOLDS: "32", FAILS: "31", UNKNOWN: "33", "error": "31", "warning": "33"}
+
+
+def use_colour(stream=None) -> bool:
+    """Colour only on a terminal, and never when NO_COLOR is set."""
+    stream = stream or sys.stdout
+    return "NO_COLOR" not in os.environ and hasattr(stream, "isatty") and stream.isatty()
+
+
+def _paint(text: str, key: str, colour: bool) -> str:
+    return f"\x1b[{_COLOURS[key]}m{text}\x1b[0m" if colour else text
+
+
+def _table(rows: list[list[str]], indent: str) -> list[str]:
+    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
+    out = []
+    for r in rows:
+        cells = [r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:])]
+        out.append(indent + "  ".join(cells).rstrip())
+    return out
+
+
+def render_file(f: FileReport, colour: bool = False) -> list[str]:
+    lines = []
+    for d in f.diagnostics:
+        text = d.render(f.path)
+        lines.append(_paint(text, d.severity, colour) if colour else text)
+    if f.agreement is None:
+        return lines
+    unit = f" {f.unit}" if f.unit else ""
+    lines.append(f"{f.path}: {f.agreement} (shares {f.kind}{' in ' + f.unit if f.unit else ''})")
+    for r in f.results:
+        where = f"under \"{r.contingency}\"" if r.contingency else "baseline"
+        status = _paint(r.status.ljust(7), r.status, colour)
+        worst = "" if r.worst_excess is None else f"  worst excess {human(r.worst_excess)}{unit}"
+        lines.append(f"  {status} {r.requirement} (line {r.line}, {where}){worst}")
+        if r.status == UNKNOWN and r.reason:
+            lines.append(f"          reason: {r.reason}")
+        if r.status == HOLDS and r.worst_coalition and r.requirement not in ("balanced budget",):
+            lines.append(f"          worst coalition: {{{', '.join(r.worst_coalition)}}}  [{r.method}]")
+        if r.counterexamples:
+            params = sorted({k for c in r.counterexamples for k in c.parameters})
+            head = ["coalition", "worth", "payout", "excess"] + params
+            rows = [head]
+            for c in r.counterexamples:
+                name = "{" + ", ".join(c.coalition) + "}"
+                rows.append([name, human(c.worth), human(c.payout), human(c.excess)]
+                            + [human(c.parameters[k]) if k in c.parameters else "" for k in params])
+            lines.extend(_table(rows, "          "))
+    return lines
+
+
+def summary(run: RunReport) -> str:
+    files = len(run.files)
+    errors = sum(1 for f in run.files if f.has_errors)
+    text = (f"{files} file{'s' if files != 1 else ''}: {run.count(HOLDS)} held, "
+            f"{run.count(FAILS)} failed, {run.count(UNKNOWN)} unknown")
+    if errors:
+        text += f", {errors} with errors"
+    return text
+
+
+def render_text(run: RunReport, colour: bool = False) -> str:
+    """The whole text report, ending with the one-line summary and the caution."""
+    lines = []
+    for f in run.files:
+        lines.extend(render_file(f, colour))
+    lines.append(summary(run))
+    lines.append(CAUTION)
+    return "\n".join(lines)
