@@ -37,8 +37,9 @@ class CheckOptions:
 
 
 def _allowed(req: ast.Require, worth: Fraction) -> Fraction:
-    """The excess a coalition may have under a `stable` requirement."""
-    if req.kind == "stable":
+    """The excess a coalition may have under a `stable` requirement
+    (0 for the core and for individual rationality)."""
+    if req.kind in ("stable", "rational"):
         return Fraction(0)
     bound = req.bound
     if isinstance(bound, ast.Percent):
@@ -165,19 +166,24 @@ class Checker:
         self.parameters = parameters or {}
 
     def run(self) -> list[Result]:
-        model = self.model
-        requirements = model.requirements
+        """Results for the model's requirements; a division by zero in the
+        baseline is an input error, under a contingency an `unknown`."""
+        requirements = self.model.requirements
         try:
-            self.worths = Worths(model)
-            self.payouts = payout(self.worths)
-            worth_all = self.worths.worth_all
+            return self._run(requirements)
         except PayoutUnavailable as exc:
             return [self._result(r, UNKNOWN, None, "payout", reason=f"the payout cannot be computed: {exc}")
                     for r in requirements]
         except EvaluationError as exc:
             if self.contingency is None:
                 raise AgreementError([error("evaluation", exc.message, exc.span or ast.Span(1, 1, 1, 2))]) from None
-            return [self._result(r, UNKNOWN, None, "payout", reason=exc.message) for r in requirements]
+            return [self._result(r, UNKNOWN, None, "evaluation", reason=exc.message) for r in requirements]
+
+    def _run(self, requirements) -> list[Result]:
+        model = self.model
+        self.worths = Worths(model)
+        self.payouts = payout(self.worths)
+        worth_all = self.worths.worth_all
         self.worth_all = worth_all
         self.budget_excess = excess(model, worth_all, sum(self.payouts, Fraction(0)))
         coalition_reqs = [r for r in requirements if r.kind in ("stable", "within")]
@@ -227,8 +233,6 @@ class Checker:
                 examples.append((-e, i))
         examples.sort()
         cex = [self.counterexample(req, 1 << i) for _, i in examples[: self.options.top]]
-        for c in cex:
-            c.allowed  # noqa: B018 - allowed is 0 for individual rationality
         status = FAILS if cex else HOLDS
         return self._result(req, status, worst, "singletons", counterexamples=cex, worst_mask=worst_mask)
 

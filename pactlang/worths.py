@@ -49,7 +49,10 @@ class Worths:
         if model.formula is not None:
             members = tuple(model.names_of(mask))
             env = Env(model.params, model.attributes, members, model.formula.var.name)
-            return evaluate(model.formula.expr, env)
+            try:
+                return evaluate(model.formula.expr, env)
+            except EvaluationError as exc:
+                raise EvaluationError(f"{exc.message} in the worth of {{{', '.join(members)}}}", exc.span) from None
         if model.otherwise is not None:
             return model.otherwise
         raise EvaluationError(f"coalition {{{', '.join(model.names_of(mask))}}} has no worth", None)
