@@ -1,0 +1,2 @@
+" pactlang sharing agreements: *.deal files
+autocmd BufRead,BufNewFile *.deal setfiletype deal
