@@ -32,8 +32,17 @@ def grammar_text() -> str:
 
 @lru_cache(maxsize=1)
 def parser() -> Lark:
-    """The LALR parser, built once per process."""
-    return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True)
+    """The LALR parser, built once per process.
+
+    Building it with the strict conflict checks takes about half a second;
+    Lark's cache (a file in the temp directory, keyed by a hash of the grammar
+    and options) makes later starts take milliseconds. A cache is only ever
+    written by a strict build, so it never hides a conflict.
+    """
+    try:
+        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True, cache=True)
+    except OSError:  # no writable temp directory: build without the cache
+        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True)
 
 
 def span_of(item) -> ast.Span:
