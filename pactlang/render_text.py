@@ -53,7 +53,8 @@ def render_file(f: FileReport, colour: bool = False) -> list[str]:
             lines.append(f"          worst coalition: {{{', '.join(r.worst_coalition)}}}  [{r.method}]")
         if r.counterexamples:
             params = sorted({k for c in r.counterexamples for k in c.parameters})
-            head = ["coalition", "worth", "payout", "excess"] + params
+            money = f" ({f.unit})" if f.unit else ""
+            head = ["coalition", f"worth{money}", f"payout{money}", f"excess{money}"] + params
             rows = [head]
             for c in r.counterexamples:
                 name = "{" + ", ".join(c.coalition) + "}"
