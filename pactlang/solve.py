@@ -1,0 +1,93 @@
+"""`Model` -> `SolveReport`: worth(all), the least-core value with its proof,
+and the payout of every rule side by side with its worst excess.
+
+The solvers work on the game in value form (`Worths.game()`); payouts of a
+cost agreement are negated back here, so every number in the report is in
+the agreement's own sign: what a party pays (cost) or receives (value).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+from .model import Model
+from .worths import PayoutUnavailable, Worths, payout
+
+MAX_SOLVED = 22
+
+RULES = ("payout", "shapley", "nucleolus", "equal split", "separable costs remaining benefits")
+
+
+@dataclass
+class Allocation:
+    """One rule's payout (None when it cannot be computed, with the reason)."""
+
+    rule: str
+    payout: list[Fraction] | None
+    worst_excess: Fraction | None = None
+    worst_coalition: tuple[str, ...] | None = None
+    reason: str | None = None
+
+
+@dataclass
+class SolveReport:
+    agreement: str
+    kind: str
+    unit: str | None
+    parties: tuple[str, ...]
+    worth_all: Fraction
+    least_core_value: Fraction
+    least_core_payout: list[Fraction]
+    certificate: list[tuple[tuple[str, ...], Fraction]]
+    allocations: list[Allocation] = field(default_factory=list)
+
+
+class TooLarge(Exception):
+    """The agreement has too many parties for the explicit solvers."""
+
+
+def solve_model(model: Model) -> SolveReport:
+    """Everything `pactlang solve` prints, exact."""
+    from . import solutions
+    from .solutions.excess import ExcessTable
+
+    if model.n > MAX_SOLVED:
+        raise TooLarge(f"{model.n} parties is above the {MAX_SOLVED} the solvers tabulate")
+    worths = Worths(model)
+    game = worths.game()
+    sign = -1 if model.kind == "cost" else 1
+    lc = solutions.least_core(game)
+    certificate = [(tuple(model.names_of(mask)), weight) for mask, weight in lc.certificate]
+    report = SolveReport(
+        model.title, model.kind, model.unit, model.parties, worths.worth_all, lc.value,
+        [v * sign for v in lc.payout], certificate,
+    )
+
+    def own() -> list[Fraction]:
+        return payout(worths)
+
+    candidates = [
+        ("payout", own),
+        ("shapley", lambda: [v * sign for v in solutions.shapley(game)]),
+        ("nucleolus", lambda: [v * sign for v in solutions.nucleolus(game)]),
+        ("least core", lambda: report.least_core_payout),
+        ("equal split", lambda: [v * sign for v in solutions.equal_split(game)]),
+        ("separable costs remaining benefits",
+         lambda: [v * sign for v in solutions.separable_costs_remaining_benefits(game)]),
+    ]
+    for attr in sorted(model.attributes):
+        if len(model.attributes[attr]) == model.n:
+            weights = model.attribute_vector(attr)
+            candidates.append((f"proportional to {attr}",
+                               lambda w=weights: [v * sign for v in solutions.proportional(game, w)]))
+    for rule, compute in candidates:
+        try:
+            values = compute()
+        except (PayoutUnavailable, solutions.NotApplicable) as exc:
+            report.allocations.append(Allocation(rule, None, reason=str(exc)))
+            continue
+        value_form = [v * sign for v in values]
+        worst, masks = ExcessTable(game, value_form).maximum()
+        report.allocations.append(Allocation(rule, values, worst, tuple(model.names_of(masks[0])) if masks else None))
+    return report
