@@ -30,6 +30,18 @@ def grammar_text() -> str:
     return source.read_text(encoding="utf-8")
 
 
+class _WholeWords:
+    """A post-lexer that only asks Lark's contextual lexer to try NAME in
+    every state. A keyword is then matched as a whole word (NAME matches
+    `partyp1` entirely, and only text equal to a keyword becomes that
+    keyword), so `partyp1` is an error rather than `party p1`."""
+
+    always_accept = ("NAME",)
+
+    def process(self, stream):
+        return stream
+
+
 @lru_cache(maxsize=1)
 def parser() -> Lark:
     """The LALR parser, built once per process.
@@ -40,9 +52,10 @@ def parser() -> Lark:
     written by a strict build, so it never hides a conflict.
     """
     try:
-        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True, cache=True)
+        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True,
+                    postlex=_WholeWords(), cache=True)
     except OSError:  # no writable temp directory: build without the cache
-        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True)
+        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True, postlex=_WholeWords())
 
 
 def span_of(item) -> ast.Span:
@@ -86,7 +99,10 @@ class _ToAst(Transformer):
 
     def shares(self, meta, items):
         unit = items[1] if len(items) > 1 else None
-        return ast.Shares(str(items[0]), unit, span=span_of(meta))
+        return ast.Shares(items[0], unit, span=span_of(meta))
+
+    def share_kind(self, meta, items):
+        return str(items[0])
 
     def unit(self, meta, items):
         tok = items[0]
@@ -238,7 +254,7 @@ class _ToAst(Transformer):
 _EXPECT_WORDS = {
     "_NL": "end of line", "NAME": "a name", "NUMBER": "a number", "PERCENT": "a percentage",
     "STRING": "a quoted string", "SIGNED": "a number", "MINUS": "`-`", "PLUS": "`+`",
-    "STAR": "`*`", "SLASH": "`/`", "COMPARE": "a comparison", "SHARE_KIND": "`cost` or `value`",
+    "STAR": "`*`", "SLASH": "`/`", "COMPARE": "a comparison",
     "$END": "end of file",
 }
 

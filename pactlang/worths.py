@@ -131,7 +131,8 @@ def _solution_rule(kind: str, worths: Worths) -> list[Fraction]:
             return solutions.nucleolus(game)
         if kind == "scrb":
             return solutions.separable_costs_remaining_benefits(game)
-    except solutions.NotApplicable as exc:
+    except (solutions.NotApplicable, solutions.SolverError, ValueError) as exc:
+        # no exactly proved answer: the requirement becomes `unknown` with this reason
         raise PayoutUnavailable(str(exc)) from None
     raise PayoutUnavailable(f"unknown rule `{kind}`")
 
