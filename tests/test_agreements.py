@@ -32,6 +32,21 @@ EXPECTED = {
         "stable within 5": ("fails", Fraction("39.2")),
         "individually rational": ("fails", Fraction("9.6")),
     },
+    "reservoir_scrb.deal": {
+        # separable costs 12, 8, 5; remaining benefits 6, 6, 4; the remaining
+        # 6 split 6:6:4 -> pays 14.25, 10.25, 6.5 (references.md formula,
+        # [practice]); {millbrook, stanton} pays 24.5 instead of 26
+        "stable": ("holds", Fraction("-1.5")),
+        "individually rational": ("holds", Fraction("-2.5")),
+    },
+    "instrument_shapley.deal": {
+        # Shapley: 0.2 * hours each, the 60 grant halved between materials and
+        # biology; {materials, biology} earns 360 and receives 210 + 150 [derived]
+        "stable": ("holds", Fraction(0)),
+    },
+    "depot_nucleolus.deal": {
+        "stable": ("holds", Fraction(-48)),
+    },
 }
 
 
