@@ -5,12 +5,15 @@ sweep over all coalitions (`sweep.excess_chunks`); chunks whose excesses were
 recovered exactly are judged with integer comparisons, the others through a
 pool of candidates that the float bounds cannot rule out, each evaluated in
 Fractions. Every counterexample and every worst excess printed is evaluated
-again from the model in Fractions before it is returned.
+again from the model in Fractions before it is returned. From MILP_FROM
+parties on (and always above MAX_ENUMERATED) the worst coalitions are found
+by integer programming instead (`search_milp`) when the formula allows it.
 """
 
 from __future__ import annotations
 
 import heapq
+import time
 from dataclasses import dataclass, field
 from fractions import Fraction
 from math import floor
@@ -25,6 +28,9 @@ from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
 
 MAX_ENUMERATED = 24
+# From this many parties on, an integer program finds the worst coalition faster
+# than enumeration (measured by bench/bench_contingencies.py).
+MILP_FROM = 18
 POOL_LIMIT = 200_000
 DEFAULT_TOP = 5
 
@@ -34,6 +40,8 @@ class CheckOptions:
     top: int = DEFAULT_TOP
     time_limit: float | None = None
     low_bits: int | None = None  # tests lower it to exercise several chunks
+    search: str = "auto"  # "auto" | "enumeration" | "milp": how coalition requirements are searched
+    progress: object | None = field(default=None, compare=False)  # a progress.Progress, or None
 
 
 def _allowed(req: ast.Require, worth: Fraction) -> Fraction:
@@ -246,13 +254,20 @@ class Checker:
         from .sweep import excess_chunks  # numpy work only when coalitions are checked
 
         model = self.model
-        if model.n > MAX_ENUMERATED:
-            reason = (f"{model.n} parties is above the {MAX_ENUMERATED} that are checked by enumeration, "
-                      "and no other method applies to this agreement yet")
-            return {id(r): self._result(r, UNKNOWN, None, "enumeration", reason=reason) for r in reqs}
+        if self._use_milp():
+            from .search_milp import search
+
+            found = search(self, reqs, self.options.time_limit)
+            if model.n > MAX_ENUMERATED or self.options.search == "milp" \
+                    or all(r.status != UNKNOWN for r in found.values()):
+                return found
         trackers = [_Tracker(r, self.options.top) for r in reqs]
         full = model.full
+        deadline = None if self.options.time_limit is None else time.monotonic() + self.options.time_limit
         for chunk in excess_chunks(self.worths, self.payouts, self.options.low_bits):
+            if deadline is not None and time.monotonic() > deadline:
+                reason = f"the time limit of {self.options.time_limit:g} s was reached while enumerating coalitions"
+                return {id(r): self._result(r, UNKNOWN, None, "enumeration", reason=reason) for r in reqs}
             masks = chunk.masks
             valid = (masks != 0) & (masks != full)
             for t in trackers:
@@ -271,6 +286,22 @@ class Checker:
             t.settle(self.exact_excess)
             out[id(req)] = self._verdict(t)
         return out
+
+    def _use_milp(self) -> bool:
+        """Integer programming above MILP_FROM parties when the formula allows it
+        (and always above MAX_ENUMERATED, where it is the only way)."""
+        options, n = self.options, self.model.n
+        if options.search == "milp":
+            return True
+        if options.search == "enumeration" or options.low_bits is not None:
+            return n > MAX_ENUMERATED
+        if n > MAX_ENUMERATED:
+            return True
+        if n < MILP_FROM:
+            return False
+        from .search_milp import unsupported_reason
+
+        return unsupported_reason(self.model) is None
 
     def _verdict(self, t: _Tracker) -> Result:
         req = t.req
@@ -293,8 +324,16 @@ class Checker:
 
 def check_model(model: Model, options: CheckOptions = CheckOptions()) -> list[Result]:
     """All results: the baseline, then each contingency."""
-    results = Checker(model, options).run()
-    results.extend(_contingency_results(model, options))
+    progress = options.progress
+    if progress is not None:
+        progress.start_file(model.path, 1 + len(model.contingencies))
+        progress.scenario("baseline")
+    try:
+        results = Checker(model, options).run()
+        results.extend(_contingency_results(model, options))
+    finally:
+        if progress is not None:
+            progress.end_file()
     return results
 
 
@@ -307,6 +346,8 @@ def _contingency_results(model: Model, options: CheckOptions) -> list[Result]:
         check_contingency = None
     results = []
     for c in model.contingencies:
+        if options.progress is not None:
+            options.progress.scenario(c.name)
         if check_contingency is None:
             reason = "contingencies are parsed but not checked yet"
             for req in model.requirements:

@@ -25,9 +25,15 @@ def check(
 ) -> None:
     """Check every requirement of the agreements, in the baseline and each contingency."""
     from ..check import CheckOptions
+    from ..progress import Progress
     from ..run import check_files
 
-    run, models = check_files(files, CheckOptions(top=top, time_limit=time_limit))
+    progress = Progress.for_stream(len(files), quiet=quiet)
+    try:
+        run, models = check_files(files, CheckOptions(top=top, time_limit=time_limit, progress=progress))
+    finally:
+        if progress is not None:
+            progress.clear()
     if format is OutputFormat.json:
         from ..render_json import render_json
 

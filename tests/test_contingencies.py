@@ -1,0 +1,490 @@
+"""Contingencies: fixed values and withdrawals against agreements written out by hand,
+ranges against exact answers worked out beside each test."""
+
+from __future__ import annotations
+
+import io
+import json
+from fractions import Fraction
+from itertools import combinations, permutations, product
+from math import factorial
+
+import pytest
+
+from pactlang.check import CheckOptions, Checker, check_model
+from pactlang.contingencies import check_contingency, scenario_of
+from pactlang.load import load_text
+from pactlang.progress import Progress
+from pactlang.render_json import render_json
+from pactlang.render_text import render_text
+from pactlang.results import FAILS, HOLDS, UNKNOWN, FileReport, RunReport
+from pactlang.worths import Worths, excess, paid_by, payout
+
+F = Fraction
+
+HARBOUR = """\
+agreement "Harbour tugs"
+shares cost in kEUR
+
+party north_quay: draft 12.5, calls 340
+party south_quay: draft 11.0, calls 210
+party ferry_coop: draft 6.5, calls 900
+party marina:     draft 3.0, calls 60
+
+param overrun = 1
+
+worth S = overrun * 40 * max(draft in S) + 0.05 * sum(calls in S)
+worth {marina} = 9
+worth {ferry_coop, marina} = 300
+worth {south_quay, ferry_coop} = 560
+
+payout marina = 9
+payout north_quay = 35%
+payout rest by proportional to calls
+
+contingency "marina leaves" { without marina }
+contingency "marina leaves, deep ships" { without marina; draft of north_quay = 14; overrun = 1.1 }
+contingency "pinned worth" { worth {south_quay, ferry_coop} in 400 .. 400 }
+contingency "deep range" { draft of north_quay in 12.5 .. 14 }
+contingency "marina leaves, ranged" { without marina; draft of south_quay in 9 .. 13; calls of marina in 0 .. 100 }
+
+require stable within 15
+require stable within 2%
+require individually rational
+require balanced budget
+"""
+
+# the same agreement read without the marina, written out by hand: its table
+# entries naming the marina and its payout line are gone, the others stay
+HARBOUR_WITHOUT_MARINA = """\
+agreement "Harbour tugs"
+shares cost in kEUR
+
+party north_quay: draft {north}, calls 340
+party south_quay: draft 11.0, calls 210
+party ferry_coop: draft 6.5, calls 900
+
+param overrun = {overrun}
+
+worth S = overrun * 40 * max(draft in S) + 0.05 * sum(calls in S)
+worth {{south_quay, ferry_coop}} = 560
+
+payout north_quay = 35%
+payout rest by proportional to calls
+
+contingency "ranged" {{ draft of south_quay in 9 .. 13 }}
+
+require stable within 15
+require stable within 2%
+require individually rational
+require balanced budget
+"""
+
+
+def model_of(text: str):
+    return load_text(text).model
+
+
+def by_name(model, name):
+    return next(c for c in model.contingencies if c.name == name)
+
+
+def summary(results):
+    """What a result says, without where it was written."""
+    return [(r.requirement, r.status, r.worst_excess, r.method,
+             [(c.coalition, c.worth, c.payout, c.excess) for c in r.counterexamples]) for r in results]
+
+
+def exact_excess_at(model, mask, attrs=None, params=None, worths=None):
+    """Excess and worth of a coalition, evaluated from the model at given values."""
+    m = model.with_values(attributes=attrs, params=params, worths=worths)
+    w = Worths(m)
+    pay = payout(w)
+    worth = w.exact(mask)
+    return excess(m, worth, paid_by(pay, mask)), worth
+
+
+# ---------------------------------------------------------------- fixed values and withdrawal
+
+
+def test_withdrawal_equals_the_smaller_agreement_written_by_hand():
+    model = model_of(HARBOUR)
+    got = check_contingency(model, by_name(model, "marina leaves"), CheckOptions())
+    small = model_of(HARBOUR_WITHOUT_MARINA.format(north="12.5", overrun="1"))
+    want = Checker(small, CheckOptions()).run()
+    assert summary(got) == summary(want)
+    assert all(r.contingency == "marina leaves" for r in got)
+    # without the marina: c(N) = 40 * 12.5 + 0.05 * 1450 = 572.5, north_quay pays 35%,
+    # ferry_coop 900/1110 of the rest = 301.72..., against 40 * 6.5 + 45 = 305 alone:
+    # its excess -485/148 is the largest [derived]
+    assert [r.status for r in got] == [HOLDS] * 4
+    assert got[0].worst_excess == F(572_5, 10) * F(65, 100) * F(900, 1110) - 305 == F(-485, 148)
+
+
+def test_withdrawal_with_fixed_values_equals_the_smaller_agreement():
+    model = model_of(HARBOUR)
+    got = check_contingency(model, by_name(model, "marina leaves, deep ships"), CheckOptions())
+    small = model_of(HARBOUR_WITHOUT_MARINA.format(north="14", overrun="1.1"))
+    want = Checker(small, CheckOptions()).run()
+    assert summary(got) == summary(want)
+    for r in got:
+        for c in r.counterexamples:
+            assert c.parameters == {"draft of north_quay": F(14), "overrun": F(11, 10)}
+
+
+def test_withdrawal_with_ranges_equals_the_smaller_agreement_with_the_same_range():
+    # the marina's ranged calls no longer matter once it has left
+    model = model_of(HARBOUR)
+    scenario = scenario_of(model, by_name(model, "marina leaves, ranged"))
+    assert [r.key for r in scenario.ranged] == ["draft of south_quay"]
+    assert scenario.notes == ["`calls of marina` is ignored: the party has withdrawn"]
+    got = check_contingency(model, by_name(model, "marina leaves, ranged"), CheckOptions())
+    small = model_of(HARBOUR_WITHOUT_MARINA.format(north="12.5", overrun="1"))
+    want = check_contingency(small, small.contingencies[0], CheckOptions())
+    assert summary(got) == summary(want)
+
+
+def test_a_range_with_equal_ends_pins_the_worth():
+    model = model_of(HARBOUR)
+    got = check_contingency(model, by_name(model, "pinned worth"), CheckOptions())
+    mask = model.mask_of(["south_quay", "ferry_coop"])
+    want = Checker(model.with_values(worths={mask: F(400)}), CheckOptions()).run()
+    assert summary(got) == summary(want)
+    assert all(r.method in ("enumeration", "singletons", "exact sum") for r in got)
+
+
+def test_deep_range_worst_case_is_the_deepest_draft():
+    # everything grows with north_quay's draft; its payout share is fixed at 35%,
+    # the others pay in proportion to calls: the worst excess is at draft 14
+    model = model_of(HARBOUR)
+    got = check_contingency(model, by_name(model, "deep range"), CheckOptions())
+    at_14 = Checker(model.with_values(attributes={("draft", "north_quay"): F(14)}), CheckOptions()).run()
+    at_low = Checker(model, CheckOptions()).run()
+    for r, hi, lo in zip(got, at_14, at_low):
+        assert r.worst_excess == max(hi.worst_excess, lo.worst_excess)
+        assert r.method.startswith("z3")
+        if FAILS in (hi.status, lo.status):
+            assert r.status == FAILS
+        for c in r.counterexamples:
+            value = c.parameters["draft of north_quay"]
+            assert F(25, 2) <= value <= 14
+            e, w = exact_excess_at(model, model.mask_of(c.coalition), attrs={("draft", "north_quay"): value})
+            assert (e, w) == (c.excess, c.worth)
+    within, relative, ir, budget = got
+    assert within.status == (FAILS if within.worst_excess > 15 else HOLDS) == FAILS
+    assert ir.status == (FAILS if ir.worst_excess > 0 else HOLDS)
+    assert (budget.status, budget.worst_excess) == (HOLDS, 0)
+
+
+# ---------------------------------------------------------------- ranges with exact answers
+
+
+STEP = """\
+agreement "Step"
+shares value
+
+party alpha: size 1
+party beta: size 1
+
+param t = 5
+
+# alpha earns t alone while t stays below 10, nothing from then on
+worth S = (if t < 10 then t else 0) * (alpha in S) + 20 * (beta in S)
+payout alpha = 0
+payout beta = worth(all)
+
+contingency "t rises" { t in 8 .. 12 }
+
+require stable within 10
+require stable within 9.5
+require individually rational
+"""
+
+
+def test_a_supremum_that_is_not_attained_is_reported_exactly():
+    # e({alpha}) = t for t < 10 and 0 from 10 on: the supremum 10 is never
+    # reached, so `within 10` holds and `within 9.5` fails somewhere in (9.5, 10)
+    model = model_of(STEP)
+    r10, r95, ir = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r10.status, r10.worst_excess) == (HOLDS, F(10))
+    assert "not attained" in r10.method
+    assert (r95.status, r95.worst_excess) == (FAILS, F(10))
+    (c,) = r95.counterexamples
+    t = c.parameters["t"]
+    assert c.coalition == ("alpha",) and F(19, 2) < t < 10 and c.excess == t
+    assert exact_excess_at(model, 1, params={"t": t}) == (c.excess, c.worth)
+    assert ir.status == FAILS and ir.worst_excess == F(10)
+
+
+SELF_WEIGHTED = """\
+agreement "Self weighted"
+shares value
+
+party a: w 2
+party b: w 3
+party c: w 5
+
+worth S = if count(S) >= 2 then 2 * sum(w in S) else sum(w in S)
+payout by proportional to w
+
+contingency "a grows" { w of a in 1 .. 4; w of b in 2 .. 6 }
+
+require stable
+require individually rational
+"""
+
+
+def test_ranged_weights_read_by_the_formula_are_decided_by_bisection():
+    # x_i = v(N) w_i / w(N) = 2 w_i, so e(S) = 0 for |S| >= 2 and -w_i alone:
+    # the supremum over proper coalitions is 0 at every value [derived]
+    model = model_of(SELF_WEIGHTED)
+    core, ir = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (core.status, core.worst_excess) == (HOLDS, F(0))
+    assert core.method == "z3 bisection"
+    # singletons: -w_i, largest at w of a = 1 -> -1
+    assert (ir.status, ir.worst_excess) == (HOLDS, F(-1))
+
+
+AVERAGE = """\
+agreement "Average"
+shares cost
+
+party a: cost 4
+party b: cost 8
+party c: cost 9
+
+param levy = 1
+
+# a coalition pays its members' average cost, plus a levy per member
+worth S = sum(cost in S) / count(S) + levy * count(S)
+payout by equal split
+
+contingency "levy" { levy in 0 .. 3 }
+
+require stable within 1
+"""
+
+
+def test_division_by_the_coalition_size_is_handled_exactly():
+    # c(N) = 7 + 3 levy, x_i = 7/3 + levy. e(S) = |S|(7/3 + levy) - avg(S) - levy |S|
+    # = 7|S|/3 - avg(S): independent of the levy; best: {b, c}: 14/3 - 17/2 < 0,
+    # singletons 7/3 - c_i: {a} gives -5/3; pairs {a,b}: 14/3 - 6 = -4/3 [derived]
+    model = model_of(AVERAGE)
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    best = max(F(7 * len(s), 3) - F(sum(s), len(s)) for k in (1, 2) for s in combinations((4, 8, 9), k))
+    assert (r.status, r.worst_excess) == (HOLDS, best) and best == F(-4, 3)
+
+
+def shapley(worth, n):
+    """Shapley value by averaging marginal contributions over all orders [practice]."""
+    phi = [F(0)] * n
+    for order in permutations(range(n)):
+        mask = 0
+        for i in order:
+            phi[i] += worth(mask | 1 << i) - worth(mask)
+            mask |= 1 << i
+    return [v / factorial(n) for v in phi]
+
+
+SHAPLEY = """\
+agreement "Shared pumping station"
+shares cost
+
+party farm: flow 3
+party mill: flow 5
+party town: flow 9
+party brewery: flow 2
+
+param tariff = 2
+
+worth S = 10 + tariff * sum(flow in S) + 4 * count(S)
+worth {farm, mill} = 30
+
+payout by shapley
+
+contingency "tariff and flow" { tariff in 1 .. 3; flow of town in 6 .. 12 }
+
+require stable within 2
+require individually rational
+"""
+
+
+def test_shapley_under_ranges_matches_the_corners():
+    # worths are affine in each of tariff and flow of town when the other is
+    # held (multi-affine), the Shapley value is linear in the worths, so every
+    # excess is multi-affine and its supremum over the box sits at a corner
+    # [derived]; the oracle below is plain Python
+    pytest.importorskip("pactlang.solutions")
+    model = model_of(SHAPLEY)
+    flows = {"farm": 3, "mill": 5, "town": 9, "brewery": 2}
+    names = list(flows)
+
+    def worth_at(tariff, town):
+        f = dict(flows, town=town)
+
+        def worth(mask):
+            members = [p for i, p in enumerate(names) if mask >> i & 1]
+            if not members:
+                return F(0)
+            if set(members) == {"farm", "mill"}:
+                return F(30)
+            return 10 + tariff * sum(f[p] for p in members) + 4 * len(members)
+        return worth
+
+    sup, ir_sup = None, None
+    for tariff, town in product((F(1), F(3)), (F(6), F(12))):
+        w = worth_at(tariff, town)
+        x = shapley(w, 4)
+        for mask in range(1, 15):
+            e = sum(x[i] for i in range(4) if mask >> i & 1) - w(mask)
+            sup = e if sup is None else max(sup, e)
+            if bin(mask).count("1") == 1:
+                ir_sup = e if ir_sup is None else max(ir_sup, e)
+    within, ir = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert within.worst_excess == sup and within.status == (FAILS if sup > 2 else HOLDS)
+    assert ir.worst_excess == ir_sup and ir.status == (FAILS if ir_sup > 0 else HOLDS)
+    assert within.method == "z3 bisection"  # tariff * flow is a product of two ranged values
+    for c in within.counterexamples:
+        w = worth_at(c.parameters["tariff"], c.parameters["flow of town"])
+        mask = model.mask_of(c.coalition)
+        x = shapley(w, 4)
+        assert sum(x[i] for i in range(4) if mask >> i & 1) - w(mask) == c.excess > 2
+
+
+def test_scrb_under_ranges_counterexamples_recheck():
+    pytest.importorskip("pactlang.solutions")
+    model = model_of(SHAPLEY.replace("payout by shapley", "payout by separable costs remaining benefits"))
+    within, ir = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert within.method.startswith("z3")
+    corners = [{"tariff": t, "flow of town": f} for t in (F(1), F(3)) for f in (F(6), F(12))]
+    corner_worst = max(exact_excess_at(model, m, attrs={("flow", "town"): p["flow of town"]},
+                                       params={"tariff": p["tariff"]})[0] for p in corners for m in range(1, 15))
+    assert within.status in (HOLDS, FAILS)
+    assert within.worst_excess >= corner_worst  # the supremum is at least what the corners show
+    for c in within.counterexamples:
+        p = c.parameters
+        e, w = exact_excess_at(model, model.mask_of(c.coalition), attrs={("flow", "town"): p["flow of town"]},
+                               params={"tariff": p["tariff"]})
+        assert (e, w) == (c.excess, c.worth) and e > 2
+
+
+def test_nucleolus_under_ranges_is_unknown_with_a_reason():
+    model = model_of(SHAPLEY.replace("payout by shapley", "payout by nucleolus"))
+    results = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert all(r.status == UNKNOWN and "nucleolus" in r.reason for r in results)
+
+
+def test_weights_that_can_add_up_to_zero_are_unknown():
+    text = """\
+agreement "Signed weights"
+shares value
+party a: w 1
+party b: w 2
+worth S = 3 * count(S)
+payout by proportional to w
+contingency "swing" { w of a in -3 .. 1 }
+require stable
+"""
+    model = model_of(text)
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert r.status == UNKNOWN and "can be zero" in r.reason
+
+
+def test_weights_that_can_add_up_to_zero_are_unknown_when_the_formula_reads_them():
+    text = """\
+agreement "Signed weights"
+shares value
+party a: w 1
+party b: w 2
+worth S = 3 * sum(w in S)
+payout by proportional to w
+contingency "swing" { w of a in -3 .. 1 }
+require stable
+"""
+    model = model_of(text)
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert r.status == UNKNOWN and "can be zero" in r.reason and "w of a = -2" in r.reason
+
+
+def test_unbalanced_budget_under_a_range_is_refuted_with_values():
+    text = """\
+agreement "Fixed shares"
+shares cost
+party a
+party b
+param p = 1
+worth all = 15 * p
+worth otherwise = 9
+payout a = 10
+payout b = 5
+contingency "price" { p in 1 .. 2 }
+require balanced budget
+require stable within 100
+"""
+    model = model_of(text)
+    budget, stable = check_contingency(model, model.contingencies[0], CheckOptions())
+    for r in (budget, stable):
+        assert r.status == FAILS
+        c = r.counterexamples[0]
+        assert c.coalition == ("a", "b") and c.parameters["p"] != 1
+        assert c.excess == 15 - 15 * c.parameters["p"]
+    # the single coalitions pay 10 and 5 against a worth of 9: within 100 otherwise
+    assert len(stable.counterexamples) == 1 and stable.worst_excess == 1
+
+
+def test_ranged_worth_of_a_listed_coalition():
+    model = model_of(HARBOUR.replace('{ worth {south_quay, ferry_coop} in 400 .. 400 }',
+                                     '{ worth {south_quay, ferry_coop} in 400 .. 700 }'))
+    r = check_contingency(model, by_name(model, "pinned worth"), CheckOptions())[0]
+    mask = model.mask_of(["south_quay", "ferry_coop"])
+    ends = [Checker(model.with_values(worths={mask: F(v)}), CheckOptions()).run()[0] for v in (400, 700)]
+    # the listed worth moves only its own coalition's excess, linearly: ends suffice [derived]
+    assert r.worst_excess == max(e.worst_excess for e in ends)
+    for c in r.counterexamples:
+        if set(c.coalition) == {"south_quay", "ferry_coop"}:
+            assert c.parameters["worth {south_quay, ferry_coop}"] == 400
+
+
+def test_time_limit_gives_unknown():
+    model = model_of(SHAPLEY)
+    results = check_contingency(model, model.contingencies[0], CheckOptions(time_limit=1e-9))
+    assert all(r.status == UNKNOWN and "time limit" in r.reason for r in results)
+
+
+# ---------------------------------------------------------------- output
+
+
+def test_json_and_text_show_the_ranged_values():
+    model = model_of(HARBOUR)
+    results = check_model(model, CheckOptions(top=2))
+    report = FileReport("harbour.deal", model.title, model.unit, model.kind, results)
+    doc = json.loads(render_json(RunReport([report])))
+    ranged = [r for r in doc["files"][0]["results"] if r["contingency"] == "deep range"]
+    assert ranged and all(r["method"].startswith("z3") for r in ranged)
+    fails = [r for r in ranged if r["status"] == "fails"]
+    assert fails
+    for r in fails:
+        for c in r["counterexamples"]:
+            assert set(c["parameters"]) == {"draft of north_quay"}
+            value = F(c["parameters"]["draft of north_quay"])
+            assert F(25, 2) <= value <= 14
+            e, _ = exact_excess_at(model, model.mask_of(c["coalition"]), attrs={("draft", "north_quay"): value})
+            assert F(c["excess"]) == e
+    text = render_text(RunReport([report]))
+    assert "draft of north_quay" in text and 'under "deep range"' in text
+
+
+def test_progress_is_silent_off_a_terminal_and_draws_on_one():
+    assert Progress.for_stream(1, stream=io.StringIO()) is None
+
+    class Tty(io.StringIO):
+        def isatty(self):
+            return True
+
+    assert Progress.for_stream(1, quiet=True, stream=Tty()) is None
+    stream = Tty()
+    progress = Progress.for_stream(1, stream=stream)
+    model = model_of(HARBOUR)
+    check_model(model, CheckOptions(progress=progress))
+    out = stream.getvalue()
+    assert "[file 1/1]" in out and '"deep range"' in out and out.endswith("\r\x1b[K")
