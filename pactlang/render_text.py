@@ -33,6 +33,22 @@ def _table(rows: list[list[str]], indent: str) -> list[str]:
     return out
 
 
+def coalition_text(members, parties=()) -> str:
+    """A coalition for people; large ones shortened (JSON always lists every member).
+
+    Most members of a large agreement: `all except {x, y}`; otherwise the
+    first few members and how many more."""
+    members = tuple(members)
+    if parties and len(members) == len(parties) and len(parties) > 2:
+        return "all"
+    if len(members) <= 6:
+        return "{" + ", ".join(members) + "}"
+    if parties and len(parties) - len(members) <= 4:
+        outside = [p for p in parties if p not in set(members)]
+        return "all except {" + ", ".join(outside) + "}"
+    return "{" + ", ".join(members[:4]) + f", ... {len(members) - 4} more}}"
+
+
 def render_file(f: FileReport, colour: bool = False) -> list[str]:
     lines = []
     for d in f.diagnostics:
@@ -50,14 +66,14 @@ def render_file(f: FileReport, colour: bool = False) -> list[str]:
         if r.status == UNKNOWN and r.reason:
             lines.append(f"          reason: {r.reason}")
         if r.status == HOLDS and r.worst_coalition and r.requirement not in ("balanced budget",):
-            lines.append(f"          worst coalition: {{{', '.join(r.worst_coalition)}}}  [{r.method}]")
+            lines.append(f"          worst coalition: {coalition_text(r.worst_coalition, f.parties)}  [{r.method}]")
         if r.counterexamples:
             params = sorted({k for c in r.counterexamples for k in c.parameters})
             money = f" ({f.unit})" if f.unit else ""
             head = ["coalition", f"worth{money}", f"payout{money}", f"excess{money}"] + params
             rows = [head]
             for c in r.counterexamples:
-                name = "{" + ", ".join(c.coalition) + "}"
+                name = coalition_text(c.coalition, f.parties)
                 rows.append([name, human(c.worth), human(c.payout), human(c.excess)]
                             + [human(c.parameters[k]) if k in c.parameters else "" for k in params])
             lines.extend(_table(rows, "          "))

@@ -42,6 +42,7 @@ def check_file(path: str, options: CheckOptions = CheckOptions()) -> tuple[FileR
         return report, None
     model = loaded.model
     report.agreement, report.unit, report.kind = model.title, model.unit, model.kind
+    report.parties = model.parties
     report.diagnostics.extend(lint_diagnostics(loaded))
     try:
         report.results.extend(check_model(model, options))

@@ -73,3 +73,13 @@ def test_text_report_names_the_worst_coalition(files):
 def test_relative_paths_in_output(files):
     out = run("check", "bad.deal", cwd=files)
     assert out.stdout.startswith("bad.deal:")
+
+
+def test_large_coalitions_are_shortened_in_text_only():
+    from pactlang.render_text import coalition_text
+
+    parties = tuple(f"p{i}" for i in range(12))
+    assert coalition_text(("p1", "p2"), parties) == "{p1, p2}"
+    assert coalition_text(parties[:10], parties) == "all except {p10, p11}"
+    assert coalition_text(parties[:7], parties) == "{p0, p1, p2, p3, ... 3 more}"
+    assert coalition_text(parties, parties) == "all"
