@@ -29,8 +29,10 @@ from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
 
 MAX_ENUMERATED = 24
 # From this many parties on, an integer program finds the worst coalition faster
-# than enumeration (measured by bench/bench_contingencies.py).
-MILP_FROM = 18
+# than enumeration. The solve alone wins from 16-20 parties
+# (bench/bench_contingencies.py), but a command that needs it also pays about
+# a second to import scipy, while enumerating 2**20 coalitions takes 0.3 s.
+MILP_FROM = 21
 POOL_LIMIT = 200_000
 DEFAULT_TOP = 5
 

@@ -256,10 +256,22 @@ class Evaluator:
         tol = (np.asarray(a.err) + np.asarray(b.err)) * (1 + 4 * U)
         diff = np.abs(av - bv)
         unc = (tol > 0) & ~(diff > tol)
-        result = {
+        compare = {
             "==": np.equal, "!=": np.not_equal, "<": np.less,
             "<=": np.less_equal, ">": np.greater, ">=": np.greater_equal,
-        }[op](av, bv)
+        }[op]
+        result = compare(av, bv)
+        if np.any(unc) and a.q is not None and b.q is not None:
+            # Both sides are multiples of 1/q: where the error bound is below
+            # 1/(4q) the exact numerators are the rounded ones, so ties (a sum
+            # landing exactly on a threshold) are decided exactly.
+            q = lcm(a.q, b.q)
+            if q <= 2**40:
+                with np.errstate(all="ignore"):
+                    exact = unc & (tol * q < 0.25) & (np.maximum(np.abs(av), np.abs(bv)) * q < MAX_EXACT)
+                    an, bn = np.rint(av * q), np.rint(bv * q)
+                result = np.where(exact, compare(an, bn), result)
+                unc = unc & ~exact
         return Vec(result.astype(np.float64), np.where(unc, 1.0, 0.0), 1)
 
     def _arith(self, op: str, a: Vec, b: Vec, right: ast.Expr) -> Vec:

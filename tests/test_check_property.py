@@ -10,6 +10,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from oracle import oracle, specs
 from pactlang.check import CheckOptions, check_model
@@ -42,3 +43,29 @@ def test_checker_equals_oracle(spec):
 @given(specs(min_n=4, max_n=7))
 def test_checker_equals_oracle_in_small_chunks(spec):
     _compare(spec, low_bits=2)
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.integers(1, 40), min_size=3, max_size=9), st.data())
+def test_thresholds_hit_exactly_are_decided_exactly(weights, data):
+    """A sum landing exactly on its threshold (weighted voting) is a tie the
+    float bounds cannot split; the denominator bound must decide it exactly."""
+    n = len(weights)
+    subset = data.draw(st.lists(st.booleans(), min_size=n, max_size=n))
+    quota = sum(w for w, s in zip(weights, subset) if s) or 1
+    parties = "\n".join(f"party p{i}: votes {w}" for i, w in enumerate(weights))
+    text = (f'agreement "votes"\nshares value\n{parties}\n'
+            f"worth S = if sum(votes in S) >= {quota} then 100 else 0\n"
+            "payout by proportional to votes\nrequire stable within 5\n")
+    model = load_text(text).model
+    (got,) = check_model(model, CheckOptions(low_bits=data.draw(st.sampled_from([None, 2]))))
+    total = sum(weights)
+    worth_all = 100 if total >= quota else 0
+    best = None
+    for mask in range(1, (1 << n) - 1):
+        members = [i for i in range(n) if mask >> i & 1]
+        votes = sum(weights[i] for i in members)
+        e = (100 if votes >= quota else 0) - Fraction(worth_all * votes, total)
+        best = e if best is None or e > best else best
+    assert got.worst_excess == best
+    assert got.status == ("fails" if best > 5 else "holds")
