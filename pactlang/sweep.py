@@ -373,7 +373,16 @@ def worth_table(worths: Worths) -> tuple[np.ndarray, tuple[np.ndarray, int] | No
     exact_ok = True
     for high in range(evaluator.chunk_count):
         w = evaluator.worth_chunk(high)
-        parts.append(w.val.copy())
+        val = w.val.copy()
+        # solvers trust these floats to within a small margin: where the bound
+        # is loose (an undecided branch, a divisor that may be zero) take the
+        # exact worth instead; a real division by zero raises here
+        loose = np.nonzero(~(w.err <= 1e-12 * (1.0 + np.abs(val))))[0]
+        base = high << evaluator.L
+        for i in loose:
+            if base + int(i):
+                val[i] = float(worths.exact(base + int(i)))
+        parts.append(val)
         if exact_ok:
             num = _recover(w.val, w.err, w.q)
             if num is None:

@@ -69,3 +69,19 @@ def test_thresholds_hit_exactly_are_decided_exactly(weights, data):
         best = e if best is None or e > best else best
     assert got.worst_excess == best
     assert got.status == ("fails" if best > 5 else "holds")
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(specs(max_n=6))
+def test_game_floats_and_numerators_given_to_solvers_are_faithful(spec):
+    """The solvers trust `Game.floats` to a small margin and `Game.scaled` exactly."""
+    from pactlang.worths import Worths
+
+    game = Worths(load_text(spec.text()).model).game()
+    sign = -1 if spec.kind == "cost" else 1
+    for mask in range(1, 1 << spec.n):
+        exact = sign * spec.worth(mask)
+        assert abs(Fraction(float(game.floats[mask])) - exact) <= Fraction(1, 10**9) * (1 + abs(exact))
+        if game.scaled is not None:
+            nums, den = game.scaled
+            assert Fraction(int(nums[mask]), den) == exact

@@ -20,34 +20,26 @@ def repair(
     format: RepairFormat = typer.Option(RepairFormat.text, "--format", help="Output format."),
 ) -> None:
     """Suggest the nearest payout (least money moved) that is stable within the target."""
-    from ..diagnostics import AgreementError
     from ..load import load_file
     from ..numbers import exact_str, human
     from ..render_text import CAUTION
     from ..repair import NoTarget, default_target, parse_target, payout_literal, repair_model
     from ..run import display_path
-    from ..solutions import SolverError
+    from . import reported
 
     path = display_path(file)
-    try:
-        loaded = load_file(file)
-        model = loaded.model
-        if target is None:
-            epsilon, relative, label = default_target(model)
-        else:
-            epsilon, relative = parse_target(target)
-            label = f"stable within {target.strip()}"
+    with reported(path):
+        model = load_file(file).model
+        try:
+            if target is None:
+                epsilon, relative, label = default_target(model)
+            else:
+                epsilon, relative = parse_target(target)
+                label = f"stable within {target.strip()}"
+        except (NoTarget, ValueError) as exc:
+            print(f"{path}: error: {exc}")
+            raise typer.Exit(2) from None
         report = repair_model(model, epsilon, relative, label)
-    except AgreementError as exc:
-        for d in exc.diagnostics:
-            print(d.render(path))
-        raise typer.Exit(2)
-    except (NoTarget, ValueError) as exc:
-        print(f"{path}: error: {exc}")
-        raise typer.Exit(2)
-    except SolverError as exc:
-        print(f"{path}: unknown: {exc}")
-        raise typer.Exit(3)
 
     if format is RepairFormat.json:
         doc = {"agreement": report.agreement, "target": report.target, "feasible": report.feasible}

@@ -17,23 +17,14 @@ def solve(
     format: SolveFormat = typer.Option(SolveFormat.text, "--format", help="Output format."),
 ) -> None:
     """Compute the least-core value with its certificate and the reference splits."""
-    from ..diagnostics import AgreementError
     from ..load import load_file
     from ..run import display_path
-    from ..solve import TooLarge, solve_model
-    from ..solutions import SolverError
+    from ..solve import solve_model
+    from . import reported
 
     path = display_path(file)
-    try:
-        loaded = load_file(file)
-        report = solve_model(loaded.model)
-    except AgreementError as exc:
-        for d in exc.diagnostics:
-            print(d.render(path))
-        raise typer.Exit(2)
-    except (TooLarge, SolverError) as exc:
-        print(f"{path}: unknown: {exc}")
-        raise typer.Exit(3)
+    with reported(path):
+        report = solve_model(load_file(file).model)
     from ..render_solve import solve_json, solve_text
 
     print(solve_json(report) if format is SolveFormat.json else solve_text(report))
