@@ -54,9 +54,9 @@ class FileReport:
     agreement: str | None
     unit: str | None = None
     kind: str | None = None
-    parties: tuple[str, ...] = ()
     results: list[Result] = field(default_factory=list)
     diagnostics: list[Diagnostic] = field(default_factory=list)
+    parties: tuple[str, ...] = ()
 
     @property
     def has_errors(self) -> bool:

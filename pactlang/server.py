@@ -4,7 +4,9 @@ Built on pygls (`pip install pactlang[editor]`) and run by `pactlang serve`.
 Every answer comes from the library, never from a parser of its own:
 `parse_text` and `resolve` for syntax and name errors, the linter for advice,
 `check_model` for verdicts, `worths.payout` for payouts and `format_text` for
-layout.
+layout. What to answer is worked out in `pactlang.editor`, which knows
+nothing of the protocol; this module converts positions, builds the protocol's
+messages and schedules the work.
 
 Syntax, name and lint diagnostics are published at once on every change. The
 stability check waits for a pause in typing (`DELAY`), runs in a background
@@ -22,117 +24,35 @@ crosses the boundary is converted here.
 from __future__ import annotations
 
 import asyncio
-import logging
-import re
 import threading
 import traceback
-from dataclasses import dataclass, field
 from fractions import Fraction
-from functools import lru_cache
-from typing import Callable, Iterator
+from typing import Callable
 
 from lsprotocol import types
 from pygls.lsp.server import LanguageServer
 from pygls.uris import to_fs_path
 
 from . import __version__, ast
-from .check import CheckOptions, check_model
 from .diagnostics import AgreementError, Diagnostic
-from .formula import EvaluationError, is_aggregate
-from .load import FILE_START, Loaded
-from .model import Model
-from .numbers import human
-from .parse import parse_text, parser
-from .resolve import resolve
-from .results import FAILS, HOLDS, Result
-from .run import lint_diagnostics
+from .editor.hovers import attribute_hover, param_hover, party_hover, requirement_hover
+from .editor.names import FUNCTIONS, declarations, declared_names, keywords, ref_at, requirement_at
+from .editor.snapshot import TIME_LIMIT, Snapshot, analyse, carry_over, compute_payouts, run_check
+from .load import FILE_START
 
 DELAY = 0.5  # seconds of quiet typing before the stability check starts
-TIME_LIMIT = 30.0  # seconds per requirement before the editor is told `unknown`
 HOVER_WAIT = 2.0  # seconds a hover waits for a check or payout still running
 SOURCE = "pactlang"
-
-log = logging.getLogger(__name__)
 
 _SEVERITY = {"error": types.DiagnosticSeverity.Error, "warning": types.DiagnosticSeverity.Warning}
 
 
-# ---------------------------------------------------------------- one version of a document
+# ---------------------------------------------------------------- documents and background work
 
 
-@dataclass
-class Snapshot:
-    """What the library says about one version of one document.
-
-    `document` is None when the text does not parse and `model` when it does
-    not resolve; `results` stays None until the stability check has run.
-    `shown` holds the verdict diagnostics on display, keyed by the
-    requirement's span and text: this version's own once checked, else those
-    carried over from the previous version.
-    """
-
-    uri: str
-    version: int | None
-    text: str
-    document: ast.Document | None
-    model: Model | None
-    problems: list[Diagnostic]
-    results: list[Result] | None = None
-    check_problems: list[Diagnostic] = field(default_factory=list)
-    shown: list[tuple[tuple, Diagnostic]] = field(default_factory=list)
-    done: asyncio.Event = field(default_factory=asyncio.Event)
-    payouts: asyncio.Future | None = None
-
-    def finish(self, results: list[Result], problems: list[Diagnostic]) -> None:
-        """Record the check's outcome and wake whoever waits for it."""
-        self.results, self.check_problems = results, problems
-        self.shown = verdict_diagnostics(results, self.model) if self.model else []
-        self.done.set()
-
-
-def analyse(uri: str, version: int | None, text: str) -> Snapshot:
-    """Parse, resolve and lint one version of a document (no stability check)."""
-    path = to_fs_path(uri) or uri
-    try:
-        document = parse_text(text)
-    except AgreementError as exc:
-        return Snapshot(uri, version, text, None, None, list(exc.diagnostics))
-    try:
-        model = resolve(document, path)
-    except AgreementError as exc:
-        # the linter's syntax-only rules still apply when names do not resolve
-        problems = list(exc.diagnostics) + _lint(Loaded(path, text, document, None))
-        return Snapshot(uri, version, text, document, None, problems)
-    return Snapshot(uri, version, text, document, model, _lint(Loaded(path, text, document, model)))
-
-
-def _lint(loaded: Loaded) -> list[Diagnostic]:
-    try:
-        return lint_diagnostics(loaded)
-    except Exception:  # advice must never take the diagnostics of errors down with it
-        log.exception("the linter failed")
-        return []
-
-
-def run_check(model: Model, time_limit: float | None = TIME_LIMIT) -> tuple[list[Result], list[Diagnostic]]:
-    """The verdicts of every requirement, or the input error that stopped them."""
-    try:
-        return check_model(model, CheckOptions(time_limit=time_limit)), []
-    except AgreementError as exc:
-        return [], list(exc.diagnostics)
-
-
-def compute_payouts(model: Model) -> tuple[dict[str, Fraction] | None, str | None]:
-    """Every party's exact payout in the baseline, or why it cannot be computed."""
-    from .worths import PayoutUnavailable, Worths, payout  # numpy only once asked
-
-    try:
-        values = payout(Worths(model))
-    except PayoutUnavailable as exc:
-        return None, str(exc)
-    except EvaluationError as exc:
-        return None, exc.message
-    return dict(zip(model.parties, values)), None
+def analyse_uri(uri: str, version: int | None, text: str) -> Snapshot:
+    """`analyse` one version of a document, reading the file path from its URI."""
+    return analyse(uri, version, text, to_fs_path(uri) or uri)
 
 
 def in_thread(fn: Callable, *args) -> asyncio.Future:
@@ -166,288 +86,8 @@ def in_thread(fn: Callable, *args) -> asyncio.Future:
     return future
 
 
-# ---------------------------------------------------------------- verdicts as diagnostics
-
-
-def _unit(model: Model) -> str:
-    return f" {model.unit}" if model.unit else ""
-
-
-def _coalition(names) -> str:
-    return "`{" + ", ".join(names) + "}`"
-
-
-def _scenario_parties(model: Model, contingency: str | None) -> tuple[str, ...]:
-    gone = set()
-    for c in model.contingencies:
-        if c.name == contingency:
-            gone = {line.party.name for line in c.lines if isinstance(line, ast.Without)}
-    return tuple(p for p in model.parties if p not in gone)
-
-
-def _at(parameters: dict[str, Fraction]) -> str:
-    if not parameters:
-        return ""
-    return " at " + ", ".join(f"{k} = {human(v)}" for k, v in sorted(parameters.items()))
-
-
-def explain(result: Result, model: Model) -> str:
-    """Why a requirement fails: the worst coalition and its excess (with the
-    allowance and the values of ranged quantities where they matter), and a
-    payout total that misses worth(all)."""
-    unit = _unit(model)
-    everyone = _scenario_parties(model, result.contingency)
-    budget = next((c for c in result.counterexamples if c.coalition == everyone), None)
-    budget_text = "" if budget is None else (
-        f"the payouts add up to {human(budget.payout)}{unit}, "
-        f"worth(all) is {human(budget.worth)}{unit}{_at(budget.parameters)}")
-    if result.requirement == "balanced budget" or not result.worst_coalition or result.worst_excess is None:
-        return budget_text or "see the counterexamples of `pactlang check`"
-    worst = f"worst coalition {_coalition(result.worst_coalition)} has excess {human(result.worst_excess)}{unit}"
-    match = next((c for c in result.counterexamples if c.coalition == result.worst_coalition), None)
-    if match is None:  # no coalition gains too much: only the budget is off
-        return f"{budget_text} ({worst})" if budget_text else worst
-    if match.allowed:
-        worst += f" (allowed {human(match.allowed)}{unit})"
-    worst += _at(match.parameters)
-    return f"{worst}; {budget_text}" if budget_text else worst
-
-
-def verdict_diagnostics(results: list[Result], model: Model) -> list[tuple[tuple, Diagnostic]]:
-    """A diagnostic on the requirement for every result that is not `holds`:
-    an error when it fails, a warning when it is unknown; keyed by the
-    requirement's span and text so it can be carried to the next version."""
-    out = []
-    for r in results:
-        if r.status == HOLDS or r.span is None:
-            continue
-        where = f" under `{r.contingency}`" if r.contingency else ""
-        if r.status == FAILS:
-            d = Diagnostic("requirement-fails", "error", f"`{r.requirement}` fails{where}: {explain(r, model)}", r.span)
-        else:
-            d = Diagnostic("requirement-unknown", "warning",
-                           f"`{r.requirement}` is unknown{where}: {r.reason or 'no reason was given'}", r.span)
-        out.append(((r.span, r.requirement), d))
-    return out
-
-
-def carry_over(old: Snapshot | None, new: Snapshot) -> list[tuple[tuple, Diagnostic]]:
-    """The old verdicts whose requirement still stands, unchanged, in the same place."""
-    if old is None or new.model is None:
-        return []
-    keys = {(req.span, ast.requirement_text(req)) for req in new.model.requirements}
-    return [(key, d) for key, d in old.shown if key in keys]
-
-
-# ---------------------------------------------------------------- names in a document
-
-
-@dataclass(frozen=True)
-class Ref:
-    """A party, attribute or param name written somewhere in the document."""
-
-    kind: str  # "party" | "attribute" | "param"
-    name: str
-    span: ast.Span
-    declaration: bool = False
-
-
-def _declared(document: ast.Document) -> dict[str, str]:
-    kinds = {}
-    for stmt in document.statements:
-        if isinstance(stmt, ast.PartyDecl):
-            kinds.setdefault(stmt.name.name, "party")
-            for attr in stmt.attributes:
-                kinds.setdefault(attr.name.name, "attribute")
-        elif isinstance(stmt, ast.ParamDecl):
-            kinds.setdefault(stmt.name.name, "param")
-    return kinds
-
-
-def references(document: ast.Document) -> list[Ref]:
-    """Every party, attribute and param name in the document, with its span."""
-    kinds = _declared(document)
-    out: list[Ref] = []
-
-    def ident(kind: str, node: ast.Ident | None, declaration: bool = False) -> None:
-        if node is not None and node.span is not None:
-            out.append(Ref(kind, node.name, node.span, declaration))
-
-    for stmt in document.statements:
-        if isinstance(stmt, ast.PartyDecl):
-            ident("party", stmt.name, True)
-            for attr in stmt.attributes:
-                ident("attribute", attr.name, True)
-        elif isinstance(stmt, ast.ParamDecl):
-            ident("param", stmt.name, True)
-        elif isinstance(stmt, ast.WorthEntry):
-            for member in stmt.members:
-                ident("party", member)
-            out.extend(_expr_refs(stmt.expr, kinds))
-        elif isinstance(stmt, (ast.WorthGrand, ast.WorthFormula)):
-            out.extend(_expr_refs(stmt.expr, kinds))
-        elif isinstance(stmt, ast.PayoutFixed):
-            ident("party", stmt.party)
-            out.extend(_expr_refs(stmt.expr, kinds))
-        elif isinstance(stmt, (ast.PayoutAll, ast.PayoutRest)):
-            ident("attribute", stmt.rule.attribute)
-        elif isinstance(stmt, ast.Contingency):
-            for line in stmt.lines:
-                if isinstance(line, (ast.AttrRange, ast.AttrFixed)):
-                    ident("attribute", line.attribute)
-                    ident("party", line.party)
-                elif isinstance(line, (ast.ParamRange, ast.ParamFixed)):
-                    ident("param", line.param)
-                elif isinstance(line, ast.WorthRange):
-                    for member in line.members:
-                        ident("party", member)
-                elif isinstance(line, ast.Without):
-                    ident("party", line.party)
-    return out
-
-
-def _expr_refs(expr: ast.Expr, kinds: dict[str, str], aggregated: bool = False) -> Iterator[Ref]:
-    span = getattr(expr, "span", None)
-    if isinstance(expr, ast.Name):
-        if expr.name in kinds and span is not None:  # else the coalition variable
-            yield Ref(kinds[expr.name], expr.name, span)
-    elif isinstance(expr, ast.Member):
-        if span is not None:  # the span covers `NAME in S`; the name comes first
-            name_span = ast.Span(span.line, span.column, span.line, span.column + len(expr.item))
-            yield Ref("attribute" if aggregated else "party", expr.item, name_span)
-    elif isinstance(expr, ast.Call):
-        for arg in expr.args:
-            yield from _expr_refs(arg, kinds, is_aggregate(expr))
-    else:
-        for name in ("operand", "left", "right", "cond", "then", "otherwise"):
-            child = getattr(expr, name, None)
-            if child is not None:
-                yield from _expr_refs(child, kinds)
-
-
-def _contains(span: ast.Span, line: int, column: int) -> bool:
-    if not span.line <= line <= span.end_line:
-        return False
-    if line == span.line and column < span.column:
-        return False
-    return not (line == span.end_line and column > span.end_column)
-
-
-def ref_at(document: ast.Document, line: int, column: int) -> Ref | None:
-    """The name under the cursor (1-based); the cursor just after a name counts too."""
-    hits = [r for r in references(document) if _contains(r.span, line, column)]
-    inside = [r for r in hits if column < r.span.end_column or r.span.end_line > line]
-    return (inside or hits or [None])[0]
-
-
-def declarations(document: ast.Document, ref: Ref) -> list[ast.Span]:
-    """Where a name is declared: a party's or param's name on its line, or,
-    for an attribute, its name on every party line that gives it a value."""
-    spans = [r.span for r in references(document)
-             if r.declaration and r.kind == ref.kind and r.name == ref.name]
-    return spans if ref.kind == "attribute" else spans[:1]
-
-
-def requirement_at(document: ast.Document, line: int) -> ast.Require | None:
-    for stmt in document.statements:
-        if isinstance(stmt, ast.Require) and stmt.span and stmt.span.line <= line <= stmt.span.end_line:
-            return stmt
-    return None
-
-
-# ---------------------------------------------------------------- hover texts
-
-
-def _source(text: str, span: ast.Span | None) -> str:
-    if span is None:
-        return ""
-    lines = text.split("\n")
-    if span.line != span.end_line or span.line > len(lines):
-        return lines[span.line - 1].strip() if span.line <= len(lines) else ""
-    return lines[span.line - 1][span.column - 1: span.end_column - 1]
-
-
-def party_hover(snap: Snapshot, name: str, payouts: dict[str, Fraction] | None, why: str | None) -> str:
-    """A party's attributes and its exact baseline payout, with the clause that sets it."""
-    lines = [f"**party** `{name}`", ""]
-    decl = next((s for s in snap.document.statements if isinstance(s, ast.PartyDecl) and s.name.name == name), None)
-    for attr in decl.attributes if decl else ():
-        lines.append(f"- {attr.name.name}: {attr.value.text}")
-    model = snap.model
-    if model is None or name not in model.parties:
-        lines.append("- payout: shown once the agreement has no errors")
-        return "\n".join(lines)
-    verb = "pays" if model.kind == "cost" else "receives"
-    fixed = model.payouts.fixed.get(name)
-    if fixed is not None:
-        clause = _source(snap.text, fixed.span)
-    elif model.payouts.rule is not None:
-        scope = "rest by" if model.payouts.scope == "rest" else "by"
-        clause = f"payout {scope} {ast.rule_text(model.payouts.rule)}"
-    else:
-        clause = ""
-    how = f" (`{clause}`)" if clause else ""
-    if payouts is not None:
-        lines.append(f"- {verb} {human(payouts[name])}{_unit(model)}{how}")
-    else:
-        lines.append(f"- payout{how}: {why or 'still being computed'}")
-    return "\n".join(lines)
-
-
-def attribute_hover(document: ast.Document, name: str) -> str:
-    """An attribute's value for every party that gives one."""
-    lines = [f"**attribute** `{name}`", ""]
-    for stmt in document.statements:
-        if isinstance(stmt, ast.PartyDecl):
-            for attr in stmt.attributes:
-                if attr.name.name == name:
-                    lines.append(f"- {stmt.name.name}: {attr.value.text}")
-    return "\n".join(lines)
-
-
-def param_hover(document: ast.Document, name: str) -> str:
-    value = next((s.value.text for s in document.statements
-                  if isinstance(s, ast.ParamDecl) and s.name.name == name), "?")
-    return f"**param** `{name}` = {value}"
-
-
-def requirement_hover(snap: Snapshot, req: ast.Require) -> str:
-    """The verdict, worst excess and worst coalition of a requirement, for the
-    baseline and each contingency."""
-    text = ast.requirement_text(req)
-    lines = [f"**require {text}**", ""]
-    if snap.results is None:
-        lines.append("checking…")
-        return "\n".join(lines)
-    unit = _unit(snap.model)
-    for r in snap.results:
-        if r.span != req.span:
-            continue
-        where = f"under `{r.contingency}`" if r.contingency else "baseline"
-        if r.status in (HOLDS, FAILS):
-            worst = "" if r.worst_excess is None else f", worst excess {human(r.worst_excess)}{unit}"
-            if worst and r.worst_coalition and r.requirement != "balanced budget":
-                worst += f" for {_coalition(r.worst_coalition)}"
-            lines.append(f"- {where}: **{r.status}**{worst}")
-        else:
-            lines.append(f"- {where}: **{r.status}**: {r.reason or 'no reason was given'}")
-    if len(lines) == 2:
-        lines.append("no verdict (the agreement could not be checked)")
-    return "\n".join(lines)
-
-
 # ---------------------------------------------------------------- completion
 
-
-@lru_cache(maxsize=1)
-def keywords() -> tuple[str, ...]:
-    """The words of the grammar, plus the share kinds it matches by pattern."""
-    words = {t.pattern.value for t in parser().terminals if t.pattern.type == "str"}
-    words = {w for w in words if re.fullmatch(r"[A-Za-z_]\w*", w)} | {"cost", "value"}
-    return tuple(sorted(words))
-
-
-FUNCTIONS = ("sum", "max", "min", "count")
 
 _ITEM_KIND = {
     "party": types.CompletionItemKind.Variable,
@@ -459,7 +99,7 @@ _ITEM_KIND = {
 def completions(document: ast.Document | None) -> list[types.CompletionItem]:
     """Party, attribute and param names first, then functions and keywords."""
     items, seen = [], set()
-    for name, kind in (_declared(document) if document else {}).items():
+    for name, kind in (declared_names(document) if document else {}).items():
         seen.add(name)
         items.append(types.CompletionItem(label=name, kind=_ITEM_KIND[kind], detail=kind, sort_text=f"0{name}"))
     for name in FUNCTIONS:
@@ -485,6 +125,7 @@ def to_position(lines: list[str], codec, line: int, column: int) -> types.Positi
 
 
 def to_range(lines: list[str], codec, span: ast.Span | None) -> types.Range:
+    """A library span (the start of the file when there is none) as an editor range."""
     span = span or FILE_START
     return types.Range(start=to_position(lines, codec, span.line, span.column),
                        end=to_position(lines, codec, span.end_line, span.end_column))
@@ -502,6 +143,7 @@ def from_position(lines: list[str], codec, position: types.Position) -> tuple[in
 
 
 def to_lsp(diagnostic: Diagnostic, lines: list[str], codec) -> types.Diagnostic:
+    """A library diagnostic as the protocol's, its help line appended to the message."""
     message = diagnostic.message + (f"\nhelp: {diagnostic.help}" if diagnostic.help else "")
     return types.Diagnostic(
         range=to_range(lines, codec, diagnostic.span), message=message, source=SOURCE,
@@ -529,7 +171,7 @@ class PactServer(LanguageServer):
         """Analyse the current text, publish at once, and schedule the check."""
         doc = self.workspace.get_text_document(uri)
         old = self.snapshots.get(uri)
-        snap = analyse(uri, doc.version, doc.source)
+        snap = analyse_uri(uri, doc.version, doc.source)
         snap.shown = carry_over(old, snap)
         self.snapshots[uri] = snap
         if old is not None:
@@ -558,7 +200,7 @@ class PactServer(LanguageServer):
         snap = self.snapshots.get(uri)
         if snap is None:  # a request for a document we were never told about
             doc = self.workspace.get_text_document(uri)
-            snap = analyse(uri, doc.version, doc.source)
+            snap = analyse_uri(uri, doc.version, doc.source)
         return snap
 
     async def check_later(self, snap: Snapshot) -> None:
