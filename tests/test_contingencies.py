@@ -445,6 +445,60 @@ def test_ranged_worth_of_a_listed_coalition():
             assert c.parameters["worth {south_quay, ferry_coop}"] == 400
 
 
+TIES = """\
+agreement "Four haulers"
+shares value
+
+party a: trucks 1
+party b: trucks 1
+party c: trucks 1
+party d: trucks 1
+
+param rate = 1
+
+# any two haulers gain a bonus by pairing up, a larger one with d
+worth S = 6 * rate * count(S) + (if count(S) == 2 then 1 + 4 * (d in S) else 0)
+payout by proportional to trucks
+
+contingency "d grows" { trucks of d in 1 .. 3 }
+contingency "rate moves" { rate in 1 .. 2 }
+
+require stable
+"""
+
+# "d grows", with t = trucks of d: v(N) = 24, others are paid 24/(t+3), d 24t/(t+3).
+# Pairs without d: 13 - 48/(t+3), 5 at t = 3; pairs with d: 17 - 24(t+1)/(t+3), 5 at
+# t = 1; {a,b,c}: 18 - 72/(t+3), 6 at t = 3; singletons at most 6 - 24/6 = 2 [derived].
+# "rate moves": everyone is paid 6 rate, so a pair's excess is its bonus whatever the
+# rate: 5 with d, 1 without; nothing else is positive [derived].
+TIE_ORDERS = [
+    ("d grows", 5, [("a", "b", "c"), ("a", "b"), ("a", "c"), ("b", "c"), ("a", "d")], [6, 5, 5, 5, 5]),
+    ("rate moves", 6, [("a", "d"), ("b", "d"), ("c", "d"), ("a", "b"), ("a", "c"), ("b", "c")], [5, 5, 5, 1, 1, 1]),
+]
+
+
+@pytest.mark.parametrize("name, top, coalitions, excesses", TIE_ORDERS)
+def test_ties_on_excess_come_out_in_the_checkers_order_every_time(name, top, coalitions, excesses):
+    # the same order as the enumerating checker: excess descending, then coalition
+    # size, then coalition mask, whichever corner or solver model found them first
+    model = model_of(TIES)
+    contingency = by_name(model, name)
+
+    def listed():
+        (r,) = check_contingency(model, contingency, CheckOptions(top=top))
+        assert r.status == FAILS
+        return [(c.coalition, c.worth, c.payout, c.excess, c.allowed, c.parameters) for c in r.counterexamples]
+
+    first, second = listed(), listed()
+    assert first == second
+    assert [c[0] for c in first] == coalitions
+    assert [c[3] for c in first] == excesses
+    for coalition, worth, _, e, _, parameters in first:
+        attrs = {("trucks", "d"): parameters["trucks of d"]} if "trucks of d" in parameters else None
+        params = {"rate": parameters["rate"]} if "rate" in parameters else None
+        assert exact_excess_at(model, model.mask_of(coalition), attrs=attrs, params=params) == (e, worth)
+
+
 def test_time_limit_gives_unknown():
     model = model_of(SHAPLEY)
     results = check_contingency(model, model.contingencies[0], CheckOptions(time_limit=1e-9))
@@ -457,7 +511,7 @@ def test_time_limit_gives_unknown():
 def test_json_and_text_show_the_ranged_values():
     model = model_of(HARBOUR)
     results = check_model(model, CheckOptions(top=2))
-    report = FileReport("harbour.deal", model.title, model.unit, model.kind, results)
+    report = FileReport("harbour.deal", model.title, model.unit, model.kind, results=results)
     doc = json.loads(render_json(RunReport([report])))
     ranged = [r for r in doc["files"][0]["results"] if r["contingency"] == "deep range"]
     assert ranged and all(r["method"].startswith("z3") for r in ranged)

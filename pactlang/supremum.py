@@ -1,0 +1,111 @@
+"""Excess over a coalition scope -> its exact supremum over the ranges, with a coalition attaining it.
+
+The excess of a coalition is `e_num / den` with `den` positive. When every
+term is linear the supremum comes from Z3's optimizer, its bound proved again
+by a plain unsat query; otherwise, or when that proof does not go through, by
+bisection whose ends are exact: a witness evaluated in Fractions below, an
+unsat query above.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from .encode_z3 import real
+from .exact_points import ExactPoints
+from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
+
+MAX_BISECTION_STEPS = 40
+
+Supremum = tuple[Fraction | None, int | None, str]  # (value, a coalition attaining it, a note for `method`)
+
+
+def supremum(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadline) -> Supremum:
+    """(sup of the excess over `scope` and the ranges, a coalition attaining
+    it, a note for `method`). The excess is e_num / den."""
+    enc = queries.enc
+    if enc.linear:
+        answer = queries.maximize(e_num, [scope], deadline)
+        if answer is None:
+            return None, None, ""
+        bound, zmodel = answer
+        if bound is not None and bound[1] <= 0:
+            s, k = bound
+            # the optimizer's bound, proved again by a plain unsat query
+            if queries.solve([scope, enc.z(e_num) > real(s) if k == 0 else enc.z(e_num) >= real(s)],
+                             deadline) is None:
+                if k < 0:
+                    return s, None, " (supremum not attained)"
+                mask, values = queries.witness(zmodel, deadline, extra=[scope])
+                if points.point(mask, values).excess != s:
+                    m = queries.solve([scope, enc.z(e_num) == real(s)], deadline)
+                    if m is None:
+                        raise Mismatch("the optimizer's bound is not attained by any coalition")
+                    mask, values = queries.witness(m, deadline, extra=[scope])
+                    if points.point(mask, values).excess != s:
+                        raise Mismatch("the worst excess did not re-check exactly")
+                return s, mask, ""
+    return bisect(queries, points, e_num, scope, deadline)
+
+
+def bisect(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadline) -> Supremum:
+    """Exact supremum by bisection: `low` is always the exact excess of a
+    witness, `high` always a bound proved by an unsat query; the search ends
+    when `excess > low` is unsat (then low is the supremum, attained)."""
+    enc = queries.enc
+    den = enc.den
+
+    def above(t: Fraction):
+        return enc.zb(enc.compare(">", e_num, enc.scale(den, t)))
+
+    m = queries.solve([scope], deadline)
+    if m is None:
+        return None, None, ""
+    mask, values = queries.witness(m, deadline, extra=[scope])
+    best = points.polish(points.point(mask, values))
+    high: Fraction | None = None
+    step = Fraction(1)
+    for _ in range(MAX_BISECTION_STEPS):
+        try:
+            m = queries.solve([scope, above(best.excess)], deadline)
+        except QueryUnknown:
+            break
+        if m is None:
+            return best.excess, best.mask, ""
+        mask, values = queries.witness(m, deadline, extra=[scope, above(best.excess)])
+        p = points.polish(points.point(mask, values))
+        if p.excess <= best.excess:
+            raise Mismatch("a witness above the best excess did not re-check exactly")
+        best = p
+        # probe above the best, to bring the proved upper end down
+        if high is None:
+            target = best.excess + step
+            step *= 4
+        else:
+            if high <= best.excess:
+                raise Mismatch("a witness exceeded a proved bound")
+            target = simple_between(best.excess, high)
+        try:
+            m = queries.solve([scope, above(target)], deadline)
+        except QueryUnknown:
+            break
+        if m is None:
+            high = target
+        else:
+            mask, values = queries.witness(m, deadline, extra=[scope, above(target)])
+            p = points.polish(points.point(mask, values))
+            if p.excess > best.excess:
+                best = p
+    upper = "unbounded so far" if high is None else str(high)
+    return None, best.mask, f", supremum between {best.excess} and {upper} (not settled)"
+
+
+def simple_between(low: Fraction, high: Fraction) -> Fraction:
+    """A fraction with a small denominator strictly inside (low, high), near the middle."""
+    a, b = low + (high - low) / 4, high - (high - low) / 4
+    den = 1
+    while True:
+        n = -((-a.numerator * den) // a.denominator)  # ceil(a * den)
+        if Fraction(n, den) <= b:
+            return Fraction(n, den)
+        den *= 2
