@@ -29,7 +29,7 @@ from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
 
 MAX_ENUMERATED = 24
 # From this many parties on, an integer program finds the worst coalition faster
-# than enumeration. The solve alone wins from 16-20 parties
+# than enumeration. The solve alone wins from about 20 parties
 # (bench/bench_contingencies.py), but a command that needs it also pays about
 # a second to import scipy, while enumerating 2**20 coalitions takes 0.3 s.
 MILP_FROM = 21
