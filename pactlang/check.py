@@ -340,21 +340,13 @@ def check_model(model: Model, options: CheckOptions = CheckOptions()) -> list[Re
 
 
 def _contingency_results(model: Model, options: CheckOptions) -> list[Result]:
-    try:
-        from .contingencies import check_contingency
-    except ModuleNotFoundError as exc:
-        if exc.name != "pactlang.contingencies":
-            raise
-        check_contingency = None
+    if not model.contingencies:
+        return []  # Z3 and the range machinery are imported only when needed
+    from .contingencies import check_contingency
+
     results = []
     for c in model.contingencies:
         if options.progress is not None:
             options.progress.scenario(c.name)
-        if check_contingency is None:
-            reason = "contingencies are parsed but not checked yet"
-            for req in model.requirements:
-                results.append(Result(ast.requirement_text(req), req.span.line if req.span else 0, c.name,
-                                      UNKNOWN, None, "none", reason=reason, span=req.span))
-            continue
         results.extend(check_contingency(model, c, options))
     return results
