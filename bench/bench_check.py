@@ -19,7 +19,6 @@ import resource
 import subprocess
 import sys
 import time
-from fractions import Fraction
 from itertools import islice
 
 SAMPLE = 20_000  # coalitions timed in the plain loop

@@ -24,6 +24,7 @@ from . import ast
 from .diagnostics import AgreementError, error
 from .formula import EvaluationError
 from .model import Model
+from .sweep import _conv
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
 
@@ -138,9 +139,9 @@ class _Tracker:
             allowed_lo = p * np.maximum(absv - chunk.v_err, 0.0) * (1 - 4e-16)
             allowed_hi = p * (absv + chunk.v_err) * (1 + 4e-16)
         else:
-            allowed_lo = allowed_hi = p
-            spread = abs(float(self.ratio) - float(Fraction(float(self.ratio)))) * 2 + 1e-300
-            allowed_lo, allowed_hi = p - spread, p + spread
+            # the float epsilon may sit on either side of the exact one
+            _, spread = _conv(self.ratio)
+            allowed_lo, allowed_hi = p - 2 * spread - 5e-324, p + 2 * spread + 5e-324
         certain = valid & (lb > allowed_hi)
         possible = valid & (ub > allowed_lo)
         for value in np.sort(lb[certain])[-self.top:]:

@@ -66,8 +66,3 @@ class Game:
             scaled = (np.array(nums, dtype=np.int64), denom)
         floats = np.array([float(w) for w in exact_list], dtype=np.float64)
         return cls(n, exact_list.__getitem__, floats, scaled, tuple(names) or tuple(f"p{i}" for i in range(n)))
-
-
-def members(mask: int, n: int) -> list[int]:
-    """The player indices in a coalition mask, ascending."""
-    return [i for i in range(n) if mask >> i & 1]

@@ -229,7 +229,7 @@ class _Resolver:
                         self.err("party-as-number", f"party `{name}` is not a number", node.span, hint)
                     elif name in self.attributes:
                         hint = f"use sum({name} in {var}) or max({name} in {var})" if var else \
-                            f"attributes are read over a coalition in a `worth S` formula"
+                            "attributes are read over a coalition in a `worth S` formula"
                         self.err("attribute-as-number", f"attribute `{name}` is not a number here", node.span, hint)
                     else:
                         self.err("unknown-name", f"unknown name `{name}`", node.span,
@@ -304,7 +304,7 @@ class _Resolver:
                 self.err("paid-twice", f"party `{first.party.name}` is paid by its own line and by `payout by`",
                          first.span, "use `payout rest by ...` for the parties without a line of their own")
             if scope == "rest" and rule.kind not in ("equal", "proportional"):
-                self.err("rest-rule", f"`payout rest by` takes `equal split` or `proportional to ATTR`", rule.span,
+                self.err("rest-rule", "`payout rest by` takes `equal split` or `proportional to ATTR`", rule.span,
                          "a solution rule shares the whole game: use `payout by ...`")
             if rule.kind == "proportional":
                 attr = rule.attribute

@@ -12,9 +12,7 @@ from __future__ import annotations
 from fractions import Fraction
 from functools import cached_property
 
-import numpy as np
 
-from . import ast
 from .formula import Env, EvaluationError, evaluate
 from .game import Game
 from .model import Model
@@ -32,14 +30,10 @@ class Worths:
         env = Env(model.params, model.attributes)
         self.constants: dict[int, Fraction] = {}
         for mask, expr in model.table.items():
-            self.constants[mask] = self._eval(expr, env)
+            self.constants[mask] = evaluate(expr, env)
         if model.grand is not None and model.full not in self.constants:
-            self.constants[model.full] = self._eval(model.grand, env)
+            self.constants[model.full] = evaluate(model.grand, env)
         self.constants.update(model.pinned)
-
-    @staticmethod
-    def _eval(expr: ast.Expr, env: Env) -> Fraction:
-        return evaluate(expr, env)
 
     def exact(self, mask: int) -> Fraction:
         """The worth of the coalition `mask` (non-empty), exactly."""
@@ -144,7 +138,3 @@ def excess(model: Model, worth: Fraction, paid: Fraction) -> Fraction:
 
 def paid_by(payouts: list[Fraction], mask: int) -> Fraction:
     return sum((x for i, x in enumerate(payouts) if mask >> i & 1), Fraction(0))
-
-
-def to_float_array(values: list[Fraction]) -> np.ndarray:
-    return np.array([float(v) for v in values], dtype=np.float64)

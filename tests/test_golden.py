@@ -15,7 +15,6 @@ from pathlib import Path
 
 import pytest
 
-from pactlang import ast
 from pactlang.check import check_model
 from pactlang.diagnostics import AgreementError
 from pactlang.load import load_text
