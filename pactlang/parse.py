@@ -1,6 +1,6 @@
 """Agreement text -> `ast.Document`, or an `AgreementError` with a located message.
 
-The Lark grammar is built once (LALR, strict) from `grammar/pactlang.lark`.
+The Lark grammar is built once (LALR) from `grammar/pactlang.lark`.
 A wheel carries the grammar inside the package (`pactlang/_grammar/`); an
 editable install reads it from the source tree, so both are looked up.
 """
@@ -42,20 +42,90 @@ class _WholeWords:
         return stream
 
 
+PARSER_OPTIONS = dict(parser="lalr", propagate_positions=True)
+
+
+def build_parser(*, strict: bool = False, cache: str | None = None) -> Lark:
+    """A new LALR parser for the grammar.
+
+    `strict=True` makes Lark refuse shift/reduce and terminal collisions; it
+    needs the optional `interegular` package, so only the test suite builds
+    that way (tests/test_grammar_conflicts.py). The run-time parser is the same
+    automaton without the extra checks.
+    """
+    return Lark(grammar_text(), strict=strict, postlex=_WholeWords(), cache=cache or False, **PARSER_OPTIONS)
+
+
 @lru_cache(maxsize=1)
 def parser() -> Lark:
     """The LALR parser, built once per process.
 
-    Building it with the strict conflict checks takes about half a second;
-    Lark's cache (a file in the temp directory, keyed by a hash of the grammar
-    and options) makes later starts take milliseconds. A cache is only ever
-    written by a strict build, so it never hides a conflict.
+    Building takes about 0.1 s. The built tables are kept in the user's own
+    cache folder (see `cache_file`), never in the shared temp folder, where
+    another local user could plant a file that Lark would unpickle. Any
+    problem with the cache falls back to a plain build.
     """
+    path = cache_file()
+    if path is not None:
+        try:
+            return build_parser(cache=str(path))
+        except Exception:  # a half-written or foreign file: drop it and build afresh
+            try:
+                path.unlink()
+            except OSError:
+                pass
+    return build_parser()
+
+
+def cache_file() -> Path | None:
+    """Where the built parser is kept: a file only this user can have written, or None.
+
+    The folder is `$XDG_CACHE_HOME/pactlang` (else `~/.cache/pactlang`),
+    created private (0700). It is used only when it belongs to this user and
+    nobody else can write to it, and an existing file only when it belongs
+    to this user and is not writable by others, so the unpickling inside
+    Lark reads nothing another account wrote. The name carries a hash of the
+    grammar and the Lark and Python versions, so a changed grammar never
+    meets an old file. `PACTLANG_NO_CACHE=1` turns the cache off.
+    """
+    import hashlib
+    import os
+    import sys
+
+    import lark
+
+    if os.environ.get("PACTLANG_NO_CACHE") or not hasattr(os, "getuid"):
+        return None
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    if not os.path.isabs(base):
+        return None
+    folder = Path(base) / "pactlang"
     try:
-        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True,
-                    postlex=_WholeWords(), cache=True)
-    except OSError:  # no writable temp directory: build without the cache
-        return Lark(grammar_text(), parser="lalr", strict=True, propagate_positions=True, postlex=_WholeWords())
+        folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+        if not _private(folder):
+            return None
+    except OSError:
+        return None
+    key = hashlib.sha256(
+        (grammar_text() + lark.__version__ + repr(sys.version_info[:2])).encode("utf-8")
+    ).hexdigest()[:32]
+    path = folder / f"parser-{key}.cache"
+    try:
+        if path.exists() and (path.is_symlink() or not _private(path)):
+            return None
+    except OSError:
+        return None
+    return path
+
+
+def _private(path: Path) -> bool:
+    """True when `path` is owned by this user and nobody else may write to it."""
+    import os
+    import stat
+
+    info = os.lstat(path)
+    return info.st_uid == os.getuid() and not info.st_mode & (stat.S_IWGRP | stat.S_IWOTH) \
+        and not stat.S_ISLNK(info.st_mode)
 
 
 def span_of(item) -> ast.Span:
