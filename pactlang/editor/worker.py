@@ -182,18 +182,16 @@ class Worker:
                 await self.wake.wait()
                 continue
             job = self.running = self.queue.pop(0)
-            process = None
             try:
                 process = self._spawn()
                 value = await _exchange(process, (job.kind, job.text, job.path, job.time_limit))
-            except Superseded:
-                pass
-            except (EOFError, OSError, ValueError, pickle.UnpicklingError) as exc:
+            except WorkerFailed as exc:
                 if not job.future.done():  # nobody killed it: the child died on its own
-                    code = process.poll() if process is not None else None
                     self.kill()
-                    _settle(job.future, error=WorkerFailed(
-                        f"the worker process stopped (exit code {code}): {type(exc).__name__}"))
+                    _settle(job.future, error=exc)
+            except Exception as exc:  # the child could not start: fail this job, keep serving
+                self.kill()
+                _settle(job.future, error=WorkerFailed(f"the worker process could not run: {exc}"))
             else:
                 ok, answer = value
                 _settle(job.future, answer if ok else None, None if ok else WorkerFailed(answer))
@@ -212,6 +210,12 @@ def _exchange(process: subprocess.Popen, job: tuple) -> asyncio.Future:
             pickle.dump(job, process.stdin)
             process.stdin.flush()
             outcome = (pickle.load(process.stdout), None)
+        except (EOFError, OSError, ValueError, pickle.UnpicklingError) as exc:
+            try:
+                code = process.wait(timeout=2)
+            except subprocess.TimeoutExpired:
+                code = None
+            outcome = (None, WorkerFailed(f"the worker process stopped (exit code {code}): {type(exc).__name__}"))
         except BaseException as exc:  # noqa: BLE001  (handed to the loop, never lost)
             outcome = (None, exc)
         try:
