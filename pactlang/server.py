@@ -35,6 +35,7 @@ from pygls.uris import to_fs_path
 
 from . import __version__, ast
 from .diagnostics import AgreementError, Diagnostic
+from .editor.completion import Suggestion, suggestions
 from .editor.hovers import attribute_hover, param_hover, party_hover, requirement_hover
 from .editor.names import FUNCTIONS, declarations, declared_names, keywords, ref_at, requirement_at
 from .editor.snapshot import TIME_LIMIT, Snapshot, analyse, carry_over
@@ -84,6 +85,15 @@ _ITEM_KIND = {
     "attribute": types.CompletionItemKind.Field,
     "param": types.CompletionItemKind.Constant,
 }
+
+
+def completion_item(suggestion: Suggestion) -> types.CompletionItem:
+    """A word that fits at the cursor, names before functions before keywords."""
+    kind = _ITEM_KIND.get(suggestion.kind) or (
+        types.CompletionItemKind.Function if suggestion.kind == "function" else types.CompletionItemKind.Keyword)
+    order = {"function": 1, "keyword": 2}.get(suggestion.kind, 0)
+    return types.CompletionItem(label=suggestion.label, kind=kind, detail=suggestion.kind,
+                                sort_text=f"{order}{suggestion.label}")
 
 
 def completions(document: ast.Document | None) -> list[types.CompletionItem]:
@@ -343,10 +353,20 @@ class PactServer(LanguageServer):
                                new_text=formatted)]
 
     def completion(self, params: types.CompletionParams) -> types.CompletionList:
+        """The words that fit at the cursor (see `editor.completion`); every
+        name and keyword when the statement there cannot be read."""
         uri = params.text_document.uri
         snap = self.snapshots.get(uri)
         document = snap.document if snap and snap.document else self.last_parsed.get(uri)
-        return types.CompletionList(is_incomplete=False, items=completions(document))
+        try:
+            text = self.workspace.get_text_document(uri).source
+        except OSError as exc:
+            raise not_open(uri, exc) from None
+        lines = text.split("\n")
+        line, column = from_position(lines, self.workspace.position_codec, params.position)
+        found = suggestions(text, line, column, declared_names(document) if document else {})
+        items = completions(document) if found is None else [completion_item(s) for s in found]
+        return types.CompletionList(is_incomplete=False, items=items)
 
 
 def build_server(delay: float = DELAY, time_limit: float | None = TIME_LIMIT) -> PactServer:

@@ -376,20 +376,39 @@ async def test_definition_of_party_attribute_and_param(client: LanguageClient):
     close_doc(client, uri)
 
 
-async def test_completion_offers_names_and_keywords_even_while_broken(client: LanguageClient):
+async def completion_labels(client: LanguageClient, uri: str, position: types.Position) -> dict:
+    result = await client.text_document_completion_async(types.CompletionParams(
+        text_document=types.TextDocumentIdentifier(uri=uri), position=position))
+    return {item.label: item for item in (result.items if isinstance(result, types.CompletionList) else result)}
+
+
+async def test_completion_depends_on_the_place_even_while_broken(client: LanguageClient):
     uri = open_doc(client, "completion", VAN)
     broken = VAN + "payout b"
     change_doc(client, uri, broken, 2)
     await diagnostics(client, uri, "syntax", "the syntax error of the unfinished line")
-    result = await client.text_document_completion_async(types.CompletionParams(
-        text_document=types.TextDocumentIdentifier(uri=uri), position=where(client, broken, "payout b", 8)))
-    items = {item.label: item for item in (result.items if isinstance(result, types.CompletionList) else result)}
-    for name, kind in [("bakery", "party"), ("dairy", "party"), ("loads", "attribute"), ("fuel", "param")]:
-        assert items[name].detail == kind
-    assert items["bakery"].kind == types.CompletionItemKind.Variable
-    for word in ("require", "stable", "within", "contingency", "shapley", "cost"):
-        assert items[word].kind == types.CompletionItemKind.Keyword
-    assert items["sum"].kind == types.CompletionItemKind.Function
+    # after `payout`: a party (names of the last text that parsed) or `by` / `rest by`
+    items = await completion_labels(client, uri, where(client, broken, "payout b", 8))
+    assert sorted(items) == ["bakery", "by", "dairy", "florist", "rest by"]
+    assert items["bakery"].kind == types.CompletionItemKind.Variable and items["bakery"].detail == "party"
+    assert items["rest by"].kind == types.CompletionItemKind.Keyword
+    # inside a coalition's braces: the parties not yet listed
+    items = await completion_labels(client, uri, where(client, broken, "bakery, dairy} = 52", len("bakery, ")))
+    assert sorted(items) == ["dairy", "florist"]
+    # after `by`: the rules in full
+    items = await completion_labels(client, uri, where(client, broken, "proportional to loads"))
+    assert sorted(items) == ["equal split", "nucleolus", "proportional to", "separable costs remaining benefits",
+                             "shapley"]
+    # after `proportional to`: attributes
+    items = await completion_labels(client, uri, where(client, broken, "loads\n\ncontingency"))
+    assert sorted(items) == ["loads"] and items["loads"].kind == types.CompletionItemKind.Field
+    # at the start of a line: the statement words
+    items = await completion_labels(client, uri, where(client, broken, "require individually"))
+    assert sorted(items) == ["agreement", "contingency", "param", "party", "payout", "require", "shares", "worth"]
+    # a formula: names, functions and expression words
+    items = await completion_labels(client, uri, where(client, broken, "48 + fuel"))
+    assert items["fuel"].detail == "param" and items["sum"].kind == types.CompletionItemKind.Function
+    assert "if" in items and "require" not in items
     close_doc(client, uri)
 
 
