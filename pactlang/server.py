@@ -8,12 +8,17 @@ layout. What to answer is worked out in `pactlang.editor`, which knows
 nothing of the protocol; this module converts positions, builds the protocol's
 messages and schedules the work.
 
-Syntax, name and lint diagnostics are published at once on every change. The
-stability check waits for a pause in typing (`DELAY`), runs in a background
-thread so that typing and requests are never held up, and its results are
-dropped when the text changed while it ran. Until fresh verdicts arrive, the
-previous ones stay on requirement lines whose text and place did not change,
-so squiggles do not flicker on every keystroke.
+Syntax, name and lint diagnostics are published at once on every change; a
+crash of the library there becomes an error diagnostic on that version, so
+nothing is ever shown for text that is gone. The stability check waits for a
+pause in typing (`DELAY`) and, like the payouts a hover on a party asks for,
+runs in one child process (`editor.worker`): one job at a time, the newest
+version wins, and the work of a replaced or closed version is stopped by
+killing the child, so memory stays flat however fast the text changes.
+Results that arrive for replaced text are dropped. Until fresh verdicts
+arrive, the previous ones stay on requirement lines whose text and place did
+not change, so squiggles do not flicker on every keystroke. A request whose
+parameters do not fit its method gets an `InvalidParams` error.
 
 Positions: the library's spans count lines and characters from 1 with an
 exclusive end column; the editor counts from 0 in the code units agreed at

@@ -534,7 +534,7 @@ async def test_a_hundred_edits_with_hovers_keep_memory_flat_and_publish_only_the
     assert all(text.startswith("**party** `op03`") for text in answered)
     peak = tree_rss_mb(server)
     threads = status_field(server, "Threads")
-    assert len(process_tree(server)) <= 2, "more than one worker process is running"
+    assert len([p for p in process_tree(server) if alive(p)]) <= 2, "more than one worker process is running"
 
     # the last version pays by loads: cheap to check, and its verdict (`stable` fails) is its own
     final = 102

@@ -64,6 +64,8 @@ def child_main() -> None:
     answers = os.fdopen(os.dup(1), "wb")
     os.dup2(2, 1)  # a stray print in the library must not corrupt the answers
     sys.stdout = sys.stderr
+    from .. import check, resolve, worths  # noqa: F401  (loaded while idle, not when a job waits)
+
     cache: dict = {}
     while True:
         try:
@@ -147,8 +149,9 @@ class Worker:
             _settle(self.running.future, error=Superseded())
             self.kill()
 
-    def kill(self) -> None:
-        """Stop the child at once; the next job starts a new one."""
+    def kill(self, respawn: bool = True) -> None:
+        """Stop the child at once and start a fresh one, which loads the
+        library while the user types (the next job finds it ready)."""
         process, self.process = self.process, None
         if process is None:
             return
@@ -158,6 +161,11 @@ class Worker:
             pass
         # reap it without blocking the event loop (a zombie would hold its memory entry)
         threading.Thread(target=process.wait, name="pactlang-reap", daemon=True).start()
+        if respawn:
+            try:
+                self._spawn()
+            except OSError:  # the next job tries again and reports it
+                pass
 
     def close(self) -> None:
         for job in self.queue:
@@ -165,7 +173,7 @@ class Worker:
         self.queue.clear()
         if self.running is not None:
             _settle(self.running.future, error=Superseded())
-        self.kill()
+        self.kill(respawn=False)
         if self.runner is not None:
             self.runner.cancel()
 
@@ -187,10 +195,10 @@ class Worker:
                 value = await _exchange(process, (job.kind, job.text, job.path, job.time_limit))
             except WorkerFailed as exc:
                 if not job.future.done():  # nobody killed it: the child died on its own
-                    self.kill()
+                    self.kill(respawn=False)
                     _settle(job.future, error=exc)
             except Exception as exc:  # the child could not start: fail this job, keep serving
-                self.kill()
+                self.kill(respawn=False)
                 _settle(job.future, error=WorkerFailed(f"the worker process could not run: {exc}"))
             else:
                 ok, answer = value
