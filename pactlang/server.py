@@ -267,7 +267,11 @@ class PactServer(LanguageServer):
             results, problems = [], [internal_error("the stability check", str(exc))]
         if not self.current(snap):  # stale: the text changed while the check ran
             return
-        snap.finish(results, problems)
+        try:
+            snap.finish(results, problems)
+        except Exception as exc:  # the verdicts could not be explained: say so on this version
+            log.exception("explaining the verdicts of %s failed", snap.uri)
+            snap.finish([], [internal_error("the stability check", exc)])
         self.publish(snap)
 
     def publish(self, snap: Snapshot) -> None:

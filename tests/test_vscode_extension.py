@@ -52,7 +52,8 @@ def test_the_package_holds_manifest_entry_grammar_and_client(vsix: zipfile.ZipFi
     (language,) = manifest["contributes"]["languages"]
     assert "extension/" + grammar["path"].removeprefix("./") in names
     assert "extension/" + language["configuration"].removeprefix("./") in names
-    assert vsix.read("extension/syntaxes/deal.tmLanguage.json") == (VSCODE / "syntaxes" / "deal.tmLanguage.json").read_bytes()
+    grammar_file = VSCODE / "syntaxes" / "deal.tmLanguage.json"
+    assert vsix.read("extension/syntaxes/deal.tmLanguage.json") == grammar_file.read_bytes()
     assert manifest["activationEvents"] == ["onLanguage:" + language["id"]]
     # the language client travels with it; the packaging tool does not
     assert "extension/node_modules/vscode-languageclient/package.json" in names
