@@ -175,7 +175,8 @@ class PactProtocol(LanguageServerProtocol):
             return super().structure_message(data)
         except JsonRpcException as exc:
             if "id" in data and "method" in data:  # a request: it must get an answer
-                message = f"invalid parameters for `{data['method']}`"
+                what = "invalid parameters" if isinstance(exc, JsonRpcInvalidParams) else "unreadable request"
+                message = f"{what} for `{data['method']}`"
                 self._send_response(data["id"], error=type(exc)(message).to_response_error())
             return _Ignored()
 

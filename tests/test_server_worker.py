@@ -41,6 +41,17 @@ async def test_payouts_come_back_exact():
         worker.close()
 
 
+async def test_the_same_job_asked_twice_runs_once():
+    worker = Worker()
+    try:
+        first = worker.submit("a", None, PAYOUTS, POOL, "pool.deal", None)
+        again = worker.submit("a", None, PAYOUTS, POOL, "pool.deal", None)
+        assert again is first
+        assert (await asyncio.wait_for(first, 60))[0]["lab_north"] == 140
+    finally:
+        worker.close()
+
+
 async def test_a_newer_version_stops_the_running_job_and_runs_alone():
     worker = Worker()
     try:

@@ -128,8 +128,13 @@ class Worker:
 
     def submit(self, uri: str, version: int | None, kind: str, text: str, path: str,
                time_limit: float | None) -> asyncio.Future:
-        """Queue a job; every job for another version of the same document is dropped."""
+        """Queue a job; every job for another version of the same document is
+        dropped, and the same job asked for again shares the first one's answer."""
         self.cancel(uri, keep_version=version)
+        for waiting in ([self.running] if self.running else []) + self.queue:
+            if (waiting.uri, waiting.version, waiting.kind, waiting.text, waiting.path, waiting.time_limit) == (
+                    uri, version, kind, text, path, time_limit) and not waiting.future.done():
+                return waiting.future
         job = Job(uri, version, kind, text, path, time_limit)
         self.queue.append(job)
         self.wake.set()
