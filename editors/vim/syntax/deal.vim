@@ -26,6 +26,9 @@ syn keyword dealStatement param nextgroup=dealParamName skipwhite
 syn keyword dealStatement payout nextgroup=dealPartyRef skipwhite
 syn keyword dealStatement worth nextgroup=dealCoalitionName skipwhite
 syn match dealPartyName contained "\h\w*"
+" party NAME: ATTR VALUE, ATTR VALUE: every name after the colon or a comma is
+" an attribute, even one spelled like a function (count) or a share kind (value).
+syn match dealAttributeName "\%(^\s*party\s\+\h\w*\s*:\%([^#]*,\)\=\s*\)\@<=\h\w*"
 syn match dealParamName contained "\h\w*"
 " payout NAME = ... and without NAME refer to a party (rest and by are keywords).
 syn match dealPartyRef contained "\%(\<\%(rest\|by\)\>\)\@!\h\w*"
@@ -69,6 +72,7 @@ hi def link dealString        String
 hi def link dealStatement     Statement
 hi def link dealPartyName     Type
 hi def link dealParamName     Identifier
+hi def link dealAttributeName Identifier
 hi def link dealPartyRef      Identifier
 hi def link dealCoalitionName Identifier
 hi def link dealShareKind     Keyword
