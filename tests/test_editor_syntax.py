@@ -105,6 +105,15 @@ party a: size 1
 party b: size 2
 worth otherwise = 1
 """,
+    "drafting": """\
+agreement "Cold chain"
+shares cost in EUR
+parties from "members.csv"  # one row per member
+worth S = 50 + 2 * sum(pallets in S)
+payout by proportional to pallets
+round payouts to 0.01 by largest remainder
+require stable
+""",
     # Unfinished text: an unterminated string and an unclosed block must not
     # colour the lines after them.
     "unfinished": """\
@@ -144,6 +153,15 @@ EXPECTATIONS: list[tuple[str, str, str | None, str | None]] = [
     ("channel", "[payout] marina = 9", "keyword.other.payout.deal", "Statement"),
     ("channel", '[contingency] "deep-draft', "keyword.other.contingency.deal", "Statement"),
     ("channel", "[require] stable within 15", "keyword.other.require.deal", "Statement"),
+    ("drafting", "[parties from] \"members", None, "Statement"),
+    ("drafting", "[parties] from", "keyword.other.parties.deal", None),
+    ("drafting", "parties [from]", "keyword.other.from.deal", None),
+    ("drafting", '"[members.csv]"', "string.quoted.double.deal", "String"),
+    ("drafting", "csv\"  [# one row per member]", "comment.line.number-sign.deal", "Comment"),
+    ("drafting", "[round] payouts", "keyword.other.round.deal", "Statement"),
+    ("drafting", "round [payouts] to", "keyword.other.rounding.deal", "Keyword"),
+    ("drafting", "to [0.01] by", "constant.numeric.decimal.deal", "Number"),
+    ("drafting", "by [largest remainder]", "keyword.other.rounding.deal", "Keyword"),
     # other keywords
     ("channel", "shares [cost] in", "keyword.other.kind.deal", "Keyword"),
     ("bakeries", "shares [value] in", "keyword.other.kind.deal", "Keyword"),

@@ -20,7 +20,9 @@ syn match dealEscape contained +\\[\\"]+
 syn region dealString start=+"+ skip=+\\[\\"]+ end=+"+ end=+$+ contains=dealEscape,@Spell
 
 " Statements. A declaration highlights the name it introduces.
-syn keyword dealStatement agreement contingency require
+syn keyword dealStatement agreement contingency require round
+" parties from "FILE.csv": the party list read from a file.
+syn match dealStatement "\<parties\s\+from\>"
 syn keyword dealStatement party nextgroup=dealPartyName skipwhite
 syn keyword dealStatement param nextgroup=dealParamName skipwhite
 syn keyword dealStatement payout nextgroup=dealPartyRef skipwhite
@@ -53,6 +55,9 @@ syn keyword dealRule shapley nucleolus
 syn match dealRule "\<equal\s\+split\>"
 syn match dealRule "\<proportional\s\+to\>"
 syn match dealRule "\<separable\s\+costs\s\+remaining\s\+benefits\>"
+" round payouts to STEP by largest remainder
+syn keyword dealKeyword payouts
+syn match dealRule "\<largest\s\+remainder\>"
 
 syn keyword dealConditional if then else
 syn keyword dealLogical and or not
