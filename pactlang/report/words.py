@@ -112,12 +112,13 @@ def sentence(result: Result, parties, kind: str, unit: str | None, options: Rend
         who = prose_names(result.worst_coalition, parties, options)
     subject = "no party" if singles else "no group of parties"
     every = " for every value in the ranges" if result.method.startswith("z3") else ""
+    own = "their own" if result.worst_coalition and len(result.worst_coalition) > 1 else "its own"
     if e < 0:
         loss = figures.excess(-e) if figures.excess(-e) != "just above 0" else "slightly"
         if kind == "cost":
-            rest = f"the closest, {who}, would pay {loss}{u} more on its own"
+            rest = f"the closest, {who}, would pay {loss}{u} more on {own}"
         else:
-            rest = f"the closest, {who}, would earn {loss}{u} less on its own"
+            rest = f"the closest, {who}, would earn {loss}{u} less on {own}"
         return capital(f"{where}, {subject} would be better off alone{every}: {rest}.")
     if e == 0:
         return capital(f"{where}, {subject} would be better off alone{every}; {who} would only break even.")
