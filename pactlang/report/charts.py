@@ -8,6 +8,7 @@ from `check`. matplotlib is imported here only, so only `report` pays for it.
 from __future__ import annotations
 
 import io
+import re
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -41,7 +42,8 @@ def _svg(fig) -> str:
     buf = io.StringIO()
     fig.savefig(buf, format="svg", bbox_inches="tight", metadata={"Date": None})
     text = buf.getvalue()
-    return text[text.index("<svg"):]  # drop the XML prolog and doctype: it sits inside HTML
+    text = text[text.index("<svg"):]  # drop the XML prolog and doctype: it sits inside HTML
+    return re.sub(r"\s*<metadata>.*?</metadata>", "", text, flags=re.S)  # authoring notes, not picture
 
 
 def payouts_chart(parties, series: dict[str, list[Fraction]], kind: str, unit: str | None) -> Chart:
