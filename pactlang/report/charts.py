@@ -119,7 +119,7 @@ def _clip(polygon, a, b, c):
 
 
 def triangle_chart(parties, value_worth, total: float, lower: list[float], allowed,
-                   points: dict[str, list[float]], title: str) -> Chart:
+                   points: dict[str, list[float]], title: str, kind: str = "value") -> Chart:
     """The triangle of splits of `total` among three parties (value form:
     what each receives), the set meeting the requirement shaded and each
     split as a point. `value_worth(mask)` gives v(S); `allowed(mask)` the
@@ -155,12 +155,13 @@ def triangle_chart(parties, value_worth, total: float, lower: list[float], allow
         ax.plot([px], [py], marker="o" if j == 0 else "s", markersize=8 if j == 0 else 6,
                 color=RULE_COLOURS[j % len(RULE_COLOURS)], linestyle="none", label=name)
     for (cx, cy), name, dy in zip(corners, parties, (-0.07, -0.07, 0.04)):
-        ax.annotate(f"all to {name}", (cx, cy + dy), ha="center", fontsize=8)
+        ax.annotate(f"{name} pays least" if kind == "cost" else f"most to {name}", (cx, cy + dy),
+                    ha="center", fontsize=8)
     ax.set_xlim(-0.15, 1.15)
     ax.set_ylim(-0.12, 1.0)
     ax.set_aspect("equal")
     ax.axis("off")
-    ax.legend(fontsize=8, frameon=False, loc="upper left")
+    ax.legend(fontsize=8, frameon=False, loc="upper left", bbox_to_anchor=(0.92, 1.0))
     caption = ("Each point of the triangle is one way to share the total; shaded: the splits no coalition can "
                "beat by more than the requirement allows. " + ("None exists at this bound." if not poly else ""))
     return Chart("triangle", title, _svg(fig), caption.strip())

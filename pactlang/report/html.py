@@ -196,7 +196,7 @@ def triangle(page: Page) -> None:
     req_text = "stable" if req is None else next((r.requirement for r in page.report.results
                                                   if req.span and r.line == req.span.line), "stable")
     title = f"Splits of the total among the three parties; shaded: the {what} ({req_text})"
-    page.charts.append(triangle_chart(model.parties, value, total, lower, allowed, points, title))
+    page.charts.append(triangle_chart(model.parties, value, total, lower, allowed, points, title, model.kind))
 
 
 def build_charts(page: Page) -> None:
