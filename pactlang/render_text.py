@@ -11,7 +11,7 @@ import sys
 
 from .results import FAILS, HOLDS, UNKNOWN, FileReport, RunReport
 from .report.tables import (PartyViews, RenderOptions, Table, coalition_words, counterexample_table, headline,
-                            party_table, worst_worth)
+                            party_table, values_words, worst_worth)
 
 CAUTION = ("Results support negotiation; they do not replace legal, financial or "
            "regulatory advice or local rules.")
@@ -91,7 +91,7 @@ def render_file(f: FileReport, colour: bool = False, model=None, options: Render
                 continue
             shown_views[key] = f"{r.requirement} ({where})"
             verb = "pays" if view.kind == "cost" else "receives"
-            at = ", ".join(f"{k} = {v}" for k, v in view.at.items())
+            at = values_words(view.at, options)
             lines.append(f"{INDENT}per party{' at ' + at if at else ''}: what each {verb}; "
                          f"* marks the worst coalition's members")
             ptable = party_table(view, options)

@@ -189,3 +189,12 @@ def test_markdown_has_the_summary_tables_and_caution(bundled):
     assert "unknown party `lab_sooth`" in md
     assert md.rstrip().endswith("local rules._")
     assert not RAW_FRACTION.search(md)
+
+
+def test_ranged_values_are_written_as_figures_not_fractions():
+    from pactlang.report.tables import values_words
+
+    assert values_words({"per_metre": F(7, 5), "need of sky_charter": F(15)}, RenderOptions()) == (
+        "per_metre = 1.4, need of sky_charter = 15")
+    assert values_words({"x": F(1, 3)}, RenderOptions()) == "x = 0.33"
+    assert values_words({"x": F(1, 3)}, RenderOptions(exact=True)) == "x = 1/3"

@@ -49,6 +49,10 @@ def test_chart_kinds_appear_where_they_apply(pages):
     assert kinds("reservoir_scrb") >= {"triangle"}
     assert "ranged" in kinds("water_main_ranges") and "ranged" in kinds("runway_shapley_ranges")
     assert "triangle" not in kinds("water_main_ranges")
+    # the curve of per_metre holds need of sky_charter at 15, and writes other values as decimals
+    runway = pages["runway_shapley_ranges"].read_text(encoding="utf-8")
+    assert "stable as per_metre varies (need of sky_charter = 15)" in runway
+    assert "stable as need of sky_charter varies (per_metre = 1.4)" in runway and "7/5" not in runway
 
 
 def test_failing_page_lists_the_counterexamples_and_marks_the_requirement_line(pages):

@@ -18,7 +18,7 @@ from ..results import FAILS, HOLDS, UNKNOWN, FileReport, Result
 from .charts import MAX_CURVE_PARTIES, SAMPLES, Chart
 from .parties import MAX_SOLUTION_PARTIES, scenario_model
 from .tables import (PartyViews, RenderOptions, Table, absolute_bound, counterexample_table, headline,
-                     party_table, percent_bound, worst_worth)
+                     party_table, percent_bound, values_words, worst_worth)
 from .words import sentence, where_words
 
 CAUTION = ("These results support negotiation; they do not replace legal, financial or regulatory "
@@ -164,7 +164,7 @@ def ranged_charts(page: Page) -> None:
                 xs.append(float(value))
             if not xs:
                 continue
-            others = ", ".join(f"{k} = {v}" for k, v in held.items())
+            others = values_words(held, page.options)
             title = f"\u201c{cont.name}\u201d: {req_text} as {quantity.key} varies" + (f" ({others})" if others else "")
             at = float(worst[quantity.key]) if quantity.key in worst else None
             page.charts.append(ranged_chart(title, quantity.key, xs, ys, None if bound is None else float(bound),
@@ -305,7 +305,7 @@ def render_page(page: Page) -> str:
                 parts.append(_table_html(table))
             view = views.for_result(r)
             if view is not None:
-                at = ", ".join(f"{k} = {v}" for k, v in view.at.items())
+                at = values_words(view.at, options)
                 parts.append(f"<p>Per party{' at ' + escape(at) if at else ''}: what each "
                              f"{'pays' if view.kind == 'cost' else 'receives'}, what it would "
                              f"{'pay' if view.kind == 'cost' else 'earn'} alone, and the reference splits "

@@ -71,6 +71,14 @@ def absolute_bound(result: Result) -> Fraction | None:
     return None
 
 
+def values_words(values: dict[str, Fraction], options: RenderOptions) -> str:
+    """`pipe_price = 4, demand of cedar = 26`, rounded like any other figure."""
+    if not values:
+        return ""
+    figures = Figures.for_values(list(values.values()), options.digits, options.exact)
+    return ", ".join(f"{k} = {figures.amount(v)}" for k, v in values.items())
+
+
 def unit_suffix(unit: str | None) -> str:
     return f" {unit}" if unit else ""
 
