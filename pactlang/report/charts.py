@@ -56,15 +56,22 @@ def payouts_chart(parties, series: dict[str, list[Fraction]], kind: str, unit: s
         xs = [i - 0.4 + width * (j + 0.5) for i in range(n)]
         ax.bar(xs, [float(v) for v in values], width, label=name, color=RULE_COLOURS[j % len(RULE_COLOURS)])
     ax.set_xticks(range(n))
-    ax.set_xticklabels(parties, rotation=45 if n > 5 else 0, ha="right" if n > 5 else "center",
-                       fontsize=7 if n > 20 else 9)
+    if n > 20:  # many parties: upright labels in a small font, so none overlaps its neighbour
+        ax.set_xticklabels(parties, rotation=90, ha="center", fontsize=6)
+    else:
+        ax.set_xticklabels(parties, rotation=45 if n > 5 else 0, ha="right" if n > 5 else "center")
     ax.axhline(0, color="#555", linewidth=0.6)
     verb = "pays" if kind == "cost" else "receives"
     ax.set_ylabel(f"{verb}{' (' + unit + ')' if unit else ''}")
     ax.legend(fontsize=8, ncol=min(k, 6), frameon=False, loc="lower center", bbox_to_anchor=(0.5, 1.0))
     ax.spines[["top", "right"]].set_visible(False)
-    return Chart("payouts", f"What each party {verb}, by rule", _svg(fig),
-                 "Bars: the agreement's payout and the reference splits computed by pactlang.")
+    if "alone" in series:
+        caption = (f"Bars: what each party {verb} under the agreement and what it would "
+                   f"{'pay' if kind == 'cost' else 'earn'} alone (the reference splits need every "
+                   f"coalition and are drawn for smaller agreements).")
+    else:
+        caption = "Bars: the agreement's payout and the reference splits computed by pactlang."
+    return Chart("payouts", f"What each party {verb}, by rule", _svg(fig), caption)
 
 
 def excess_chart(rows: list[tuple[str, float, float | None, str]], unit: str | None) -> Chart:

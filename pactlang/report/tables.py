@@ -103,7 +103,7 @@ def headline(result: Result, unit: str | None, options: RenderOptions, worst_wor
             text += f" = {percent_text(p, _pct_decimals(p, pct), options.exact)} of that coalition's worth"
         text += f" (allowed {percent_text(pct, 2, options.exact)})"
     elif bound and result.requirement.startswith("stable within"):
-        text += f" (allowed {figures.amount(bound)})"
+        text += f" (allowed {figures.amount(bound)}{unit_suffix(unit)})"
     return text
 
 
