@@ -5,8 +5,10 @@ from __future__ import annotations
 import json
 
 from .diff import NEWLY_FAILS, UNCHANGED, AgreementDiff, RequirementChange, Version
-from .numbers import exact_str, human
-from .render_text import CAUTION, coalition_text
+from .numbers import exact_str
+from .report.amounts import Figures
+from .render_text import CAUTION
+from .report.tables import coalition_words
 
 
 def _scenario(c: RequirementChange) -> str:
@@ -16,21 +18,33 @@ def _scenario(c: RequirementChange) -> str:
     return f'{where}, renamed from "{c.renamed_from}"' if c.renamed_from else where
 
 
-def _verdict(r, unit: str) -> str:
+def _verdict(r, unit: str, figures: Figures) -> str:
     if r is None:
         return "absent"
     if r.worst_excess is None:
         return r.status
-    return f"{r.status}, worst {human(r.worst_excess)}{unit}"
+    return f"{r.status}, worst {figures.excess(r.worst_excess)}{unit}"
 
 
-def _signed(value) -> str:
-    text = human(value)
-    return text if text.startswith("-") else "+" + text
+def _signed(value, figures: Figures) -> str:
+    text = figures.amount(value)
+    return text if text.startswith("-") or value == 0 else "+" + text
 
 
-def _amount(value) -> str:
-    return "absent" if value is None else human(value)
+def _amount(value, figures: Figures) -> str:
+    return "absent" if value is None else figures.amount(value)
+
+
+def _excess_figures(d: AgreementDiff) -> Figures:
+    """One rounding for every worst excess, so before and after stay apart (0 included)."""
+    values = [r.worst_excess for c in d.requirements for r in (c.before, c.after)
+              if r is not None and r.worst_excess is not None]
+    return Figures.for_values(values + [0])
+
+
+def _payout_figures(d: AgreementDiff) -> Figures:
+    values = [v for p in d.payouts for v in (p.before, p.after, p.change) if v is not None]
+    return Figures.for_values(values + [0])
 
 
 def _headline(d: AgreementDiff) -> str:
@@ -41,7 +55,7 @@ def _headline(d: AgreementDiff) -> str:
 
 
 def _newly(c: RequirementChange, parties) -> str:
-    shown = ", ".join(coalition_text(m, parties) for m in c.newly_failing[:3])
+    shown = ", ".join(coalition_words(m, parties) for m in c.newly_failing[:3])
     more = len(c.newly_failing) - 3
     return shown + (f" and {more} more" if more > 0 else "")
 
@@ -50,9 +64,10 @@ def render_diff_text(d: AgreementDiff) -> str:
     unit = f" {d.new.unit or d.old.unit}" if (d.new.unit or d.old.unit) else ""
     lines = [_headline(d)]  # diagnostics go to stderr, apart (see commands/diff.py)
     shown = [c for c in d.requirements if c.change != UNCHANGED]
+    ex, pay = _excess_figures(d), _payout_figures(d)
     for c in shown:
         lines.append(f"  {c.change:<12} {c.requirement} ({_scenario(c)}): "
-                     f"{_verdict(c.before, unit)} -> {_verdict(c.after, unit)}")
+                     f"{_verdict(c.before, unit, ex)} -> {_verdict(c.after, unit, ex)}")
         if c.newly_failing:
             lines.append(f"               newly broken by {_newly(c, d.new.parties)}")
     same = len(d.requirements) - len(shown)
@@ -64,8 +79,8 @@ def render_diff_text(d: AgreementDiff) -> str:
         lines.append(f"  payouts{money}:")
         rows = [["party", "before", "after", "change"]]
         for p in moved:
-            change = _signed(p.change) if p.change is not None else ("new" if p.before is None else "removed")
-            rows.append([p.party, _amount(p.before), _amount(p.after), change])
+            change = _signed(p.change, pay) if p.change is not None else ("new" if p.before is None else "removed")
+            rows.append([p.party, _amount(p.before, pay), _amount(p.after, pay), change])
         widths = [max(len(r[i]) for r in rows) for i in range(4)]
         for r in rows:
             lines.append("    " + "  ".join([r[0].ljust(widths[0])] + [x.rjust(w) for x, w in zip(r[1:], widths[1:])]))
@@ -133,12 +148,13 @@ def render_diff_markdown(d: AgreementDiff) -> str:
     if errors:
         lines.append("")
     shown = [c for c in d.requirements if c.change != UNCHANGED]
+    ex, pay = _excess_figures(d), _payout_figures(d)
     if shown:
         lines += [f"| change | requirement | scenario | before{money} | after{money} | newly broken by |",
                   "|---|---|---|---|---|---|"]
         for c in shown:
             lines.append(f"| {c.change} | {_md(c.requirement)} | {_md(_scenario(c))} | "
-                         f"{_md(_verdict(c.before, ''))} | {_md(_verdict(c.after, ''))} | "
+                         f"{_md(_verdict(c.before, '', ex))} | {_md(_verdict(c.after, '', ex))} | "
                          f"{_md(_newly(c, d.new.parties))} |")
         lines.append("")
     same = len(d.requirements) - len(shown)
@@ -148,8 +164,8 @@ def render_diff_markdown(d: AgreementDiff) -> str:
     if moved:
         lines += [f"| party | before{money} | after{money} | change |", "|---|---:|---:|---:|"]
         for p in moved:
-            change = _signed(p.change) if p.change is not None else ("new" if p.before is None else "removed")
-            lines.append(f"| {_md(p.party)} | {_amount(p.before)} | {_amount(p.after)} | {change} |")
+            change = _signed(p.change, pay) if p.change is not None else ("new" if p.before is None else "removed")
+            lines.append(f"| {_md(p.party)} | {_amount(p.before, pay)} | {_amount(p.after, pay)} | {change} |")
         lines.append("")
     lines.append(f"_{CAUTION}_")
     return "\n".join(lines)

@@ -8,7 +8,10 @@ from __future__ import annotations
 
 import os
 import sys
+from dataclasses import replace
 
+from .numbers import exact_str
+from .report.amounts import decimals_of
 from .results import FAILS, HOLDS, UNKNOWN, FileReport, RunReport
 from .report.tables import (PartyViews, RenderOptions, Table, coalition_words, counterexample_table, headline,
                             party_table, values_words, worst_worth)
@@ -66,6 +69,11 @@ def render_file(f: FileReport, colour: bool = False, model=None, options: Render
     if f.agreement is None:
         return lines
     lines.append(f"{f.path}: {f.agreement} (shares {f.kind}{' in ' + f.unit if f.unit else ''})")
+    step = model.payouts.rounding if model is not None else None
+    if step is not None:
+        options = replace(options, min_decimals=decimals_of(step))
+        lines.append(f"  payouts rounded to {exact_str(step)}{' ' + f.unit if f.unit else ''} by largest remainder; "
+                     "every check uses the rounded amounts")
     views = PartyViews(model, options)
     shown_views: dict[tuple, str] = {}
     rounded = False

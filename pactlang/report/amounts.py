@@ -60,6 +60,12 @@ def fixed(value: Fraction, decimals: int) -> str:
     return _group(text)
 
 
+def decimals_of(step: Fraction) -> int:
+    """The decimals needed to write `step` (or any multiple of it) exactly; 12 at most."""
+    places = _terminating_decimals(Fraction(step))
+    return MAX_DECIMALS if places is None else min(places, MAX_DECIMALS)
+
+
 def is_rounded(value: Fraction, decimals: int) -> bool:
     places = _terminating_decimals(Fraction(value))
     return places is None or places > decimals
@@ -91,14 +97,15 @@ class Figures:
     exact: bool = False
 
     @classmethod
-    def for_values(cls, values, digits: int | None = None, exact: bool = False) -> "Figures":
+    def for_values(cls, values, digits: int | None = None, exact: bool = False, at_least: int = 0) -> "Figures":
         """`digits` fixes the decimals (`--digits N`); otherwise the fewest that
         tell `values` apart (include 0 and the bound so an excess never
-        rounds onto them)."""
+        rounds onto them), and never fewer than `at_least` (the decimals of
+        a `round payouts` step, so rounded payouts print as billed)."""
         values = [Fraction(v) for v in values]
         if digits is not None:
             return cls(digits, exact)
-        return cls(decimals_apart(values, floor_decimals(values)), exact)
+        return cls(decimals_apart(values, max(at_least, floor_decimals(values))), exact)
 
     def amount(self, value: Fraction | None) -> str:
         if value is None:

@@ -28,6 +28,7 @@ class RenderOptions:
     full: bool = False
     time_limit: float | None = None
     party_views: bool = True
+    min_decimals: int = 0  # the decimals of a `round payouts` step
 
 
 @dataclass
@@ -75,7 +76,7 @@ def values_words(values: dict[str, Fraction], options: RenderOptions) -> str:
     """`pipe_price = 4, demand of cedar = 26`, rounded like any other figure."""
     if not values:
         return ""
-    figures = Figures.for_values(list(values.values()), options.digits, options.exact)
+    figures = Figures.for_values(list(values.values()), options.digits, options.exact, options.min_decimals)
     return ", ".join(f"{k} = {figures.amount(v)}" for k, v in values.items())
 
 
@@ -90,7 +91,7 @@ def headline(result: Result, unit: str | None, options: RenderOptions, worst_wor
         return "" if result.worst_excess is None else f"worst excess 0{unit_suffix(unit)}"
     bound = absolute_bound(result)
     figures = Figures.for_values([result.worst_excess, 0] + ([bound] if bound is not None else []),
-                                 options.digits, options.exact)
+                                 options.digits, options.exact, options.min_decimals)
     text = f"worst excess {figures.excess(result.worst_excess)}{unit_suffix(unit)}"
     pct = percent_bound(result)
     if pct is not None:
@@ -125,9 +126,9 @@ def counterexample_table(result: Result, parties, unit: str | None, options: Ren
     params = sorted({k for c in cex for k in c.parameters})
     values = [v for c in cex for v in (c.worth, c.payout, c.excess)] + [0]
     values += [c.allowed for c in cex if c.allowed is not None and pct is None]
-    figures = Figures.for_values(values, options.digits, options.exact)
+    figures = Figures.for_values(values, options.digits, options.exact, options.min_decimals)
     param_figures = Figures.for_values([c.parameters[k] for c in cex for k in params if k in c.parameters] or [0],
-                                       options.digits, options.exact)
+                                       options.digits, options.exact, options.min_decimals)
     head = [f"worth{money}", f"payout{money}", f"excess{money}"]
     if pct is not None:
         head.append("% of worth")
@@ -155,7 +156,7 @@ def party_table(view: PartyView, options: RenderOptions) -> Table:
     gains = [view.gain(i) for i in range(len(view.parties))]
     columns = [view.payout, view.alone, gains] + [c for c in (view.shapley, view.nucleolus) if c is not None]
     values = [v for col in columns for v in col]
-    figures = Figures.for_values(values, options.digits, options.exact)
+    figures = Figures.for_values(values, options.digits, options.exact, options.min_decimals)
     head = ["party", f"{verb}{money}", f"{alone}", "better off by"]
     if view.shapley is not None:
         head.append("Shapley")

@@ -33,7 +33,7 @@ def where_words(result: Result) -> str:
 def at_words(parameters: dict[str, Fraction], options: RenderOptions) -> str:
     if not parameters:
         return ""
-    figures = Figures.for_values(list(parameters.values()), options.digits, options.exact)
+    figures = Figures.for_values(list(parameters.values()), options.digits, options.exact, options.min_decimals)
     return " when " + " and ".join(f"{k} is {figures.amount(v)}" for k, v in parameters.items())
 
 
@@ -72,7 +72,7 @@ def sentence(result: Result, parties, kind: str, unit: str | None, options: Rend
             return capital(f"{where}, the payouts add up exactly to what the whole group "
                            f"{'pays' if kind == 'cost' else 'earns'}.")
         c = result.counterexamples[0]
-        figures = Figures.for_values([c.payout, c.worth], options.digits, options.exact)
+        figures = Figures.for_values([c.payout, c.worth], options.digits, options.exact, options.min_decimals)
         return capital(f"{where}, the payouts add up to {figures.amount(c.payout)}{u}, but the whole group "
                        f"{'pays' if kind == 'cost' else 'earns'} {figures.amount(c.worth)}{u}"
                        f"{at_words(c.parameters, options)}.")
@@ -81,7 +81,7 @@ def sentence(result: Result, parties, kind: str, unit: str | None, options: Rend
     singles = result.requirement == "individually rational"
     if result.status == FAILS and result.counterexamples:
         c = result.counterexamples[0]
-        figures = Figures.for_values([c.excess, 0] + ([bound] if bound else []), options.digits, options.exact)
+        figures = Figures.for_values([c.excess, 0] + ([bound] if bound else []), options.digits, options.exact, options.min_decimals)
         who = who_words(c.coalition, parties, options)
         plural = len(c.coalition) > 1
         if kind == "cost":
@@ -106,7 +106,7 @@ def sentence(result: Result, parties, kind: str, unit: str | None, options: Rend
     e = result.worst_excess
     if e is None:
         return capital(f"{result.requirement} holds {where}.")
-    figures = Figures.for_values([e, 0] + ([bound] if bound else []), options.digits, options.exact)
+    figures = Figures.for_values([e, 0] + ([bound] if bound else []), options.digits, options.exact, options.min_decimals)
     who = ""
     if result.worst_coalition:
         who = prose_names(result.worst_coalition, parties, options)
