@@ -11,20 +11,27 @@ higher level, any direction z with z(N) = 0 that keeps D(a) from worsening is
 orthogonal to the span V of N and the earlier collections, so a level only
 needs: positive weights w on its coalitions outside V and u >= 0 on Z with
 sum w_S 1_S + sum u_i e_i in V. Each level that passes with a coalition
-outside V raises dim V, so at most n - 1 levels need an LP; each is solved
-by the exact simplex.
+outside V raises dim V, so at most n - 1 levels need an LP.
+
+Each such LP (is there y >= 0 with A y = b?) is decided by HiGHS in floats
+and proved exactly from the basis it ends on: either the basic solution,
+recomputed in Fractions, is a nonnegative solution, or the basis's dual
+vector p, recomputed in Fractions, is a Farkas certificate (p.A_j <= 0 for
+every column, p.b > 0). Only when neither proof goes through does the dense
+exact simplex decide.
 """
 
 from __future__ import annotations
 
 from fractions import Fraction
+from math import gcd
 from typing import Sequence
 
 import numpy as np
-from scipy.linalg import qr
 
 from ..game import Game
-from .exact import Span, simplex
+from . import highs
+from .exact import Span, simplex, solve
 from .excess import ExcessTable
 from .masks import bits, member_matrix
 
@@ -38,9 +45,9 @@ def _kernel_matrix(span: Span) -> np.ndarray:
 def _grow(span: Span, masks: np.ndarray, n: int) -> np.ndarray:
     """Add every coalition of `masks` to the span; return the new kernel matrix.
 
-    Floats only pick which coalitions to add (column-pivoted QR finds
-    independent ones); the loop ends when the exact kernel test shows that
-    every coalition lies in the span.
+    Floats only pick which coalitions to add (greedy Gram-Schmidt, largest
+    residual first, finds independent ones); the loop ends when the exact
+    kernel test shows that every coalition lies in the span.
     """
     while True:
         kern = _kernel_matrix(span)
@@ -50,12 +57,30 @@ def _grow(span: Span, masks: np.ndarray, n: int) -> np.ndarray:
         nz = np.flatnonzero(np.any(proj != 0, axis=1))
         if not len(nz):
             return kern
-        sub = proj[nz].astype(np.float64)
-        _, r, piv = qr(sub.T, mode="economic", pivoting=True)
-        diag = np.abs(np.diag(r))
-        rank = max(1, int(np.sum(diag > 1e-9 * diag[0])))
-        for k in piv[:rank]:
+        for k in _independent_rows(proj[nz].astype(np.float64)):
             span.add(bits(int(masks[nz[k]]), n))
+
+
+def _independent_rows(rows: np.ndarray) -> list[int]:
+    """Indices of rows that look linearly independent in floats (at least one).
+
+    Column-pivoted QR by hand: take the row with the largest residual, project
+    it out of the others, repeat while a residual stays above noise.
+    """
+    res = rows.copy()
+    norms = np.einsum("ij,ij->i", res, res)
+    first = float(norms.max())
+    picked: list[int] = []
+    while len(picked) < rows.shape[1]:
+        k = int(np.argmax(norms))
+        if picked and norms[k] <= 1e-18 * first:
+            break
+        picked.append(k)
+        q = res[k] / np.sqrt(norms[k])
+        res -= np.outer(res @ q, q)
+        norms = np.einsum("ij,ij->i", res, res)
+        norms[picked] = -1.0
+    return picked
 
 
 def _balanced(level_vecs: list[tuple[int, ...]], zero_vecs: list[tuple[int, ...]]) -> bool:
@@ -88,7 +113,68 @@ def _balanced(level_vecs: list[tuple[int, ...]], zero_vecs: list[tuple[int, ...]
     cols = single + zeros
     a = [[c[r] for c in cols] for r in range(dim)]
     b = [-sum(c[r] for c in single) for r in range(dim)]
-    return simplex(a, b, [0] * len(cols)).status == "optimal"
+    return has_nonnegative_solution(a, b)
+
+
+def has_nonnegative_solution(a: list[list[int]], b: list[int], use_floats: bool = True) -> bool:
+    """Whether some y >= 0 has a y = b (integer a, b), exactly.
+
+    With `use_floats`, HiGHS's answer is tried first and accepted only with
+    its exact proof; the exact simplex decides otherwise (or always, without).
+    """
+    if use_floats:
+        got = _decided_by_highs(a, b)
+        if got is not None:
+            return got
+    return simplex(a, b, [0] * (len(a[0]) if a else 0)).status == "optimal"
+
+
+def _decided_by_highs(a: list[list[int]], b: list[int]) -> bool | None:
+    """True or False with an exact proof from HiGHS's final basis, or None when none holds.
+
+    Phase-1 program: minimise sum(s) subject to A y + s = b (rows signed so
+    that b >= 0), y, s >= 0. Its optimal basis B gives x_B = B^-1 b and the
+    dual p = B^-T c_B. If x_B >= 0 with every artificial at zero, y solves
+    A y = b; if instead p.A_j <= 0 for every column j and p.b > 0, no y >= 0
+    can (p.(A y) <= 0 < p.b). Both are checked in exact arithmetic.
+    """
+    m = len(a)
+    k = len(a[0]) if m else 0
+    if not m or not k:
+        return None
+    sign = [-1 if v < 0 else 1 for v in b]
+    rows = [[sg * v for v in row] for sg, row in zip(sign, a)]
+    rhs = [sg * v for sg, v in zip(sign, b)]
+    try:
+        dense = np.hstack([np.array(rows, dtype=np.float64), np.eye(m)])
+        ans = highs.solve(np.r_[np.zeros(k), np.ones(m)], dense, np.array(rhs, dtype=np.float64),
+                          np.array(rhs, dtype=np.float64), 0.0, None)
+    except ImportError:
+        return None
+    if ans.status != "optimal" or ans.col_basic is None:
+        return None
+    basic = np.flatnonzero(ans.col_basic).tolist()
+    if len(basic) != m:
+        return None
+    cols = [[rows[r][j] if j < k else int(j - k == r) for r in range(m)] for j in basic]
+    x_b = solve([[col[r] for col in cols] for r in range(m)], rhs)
+    if x_b is None:
+        return None
+    if all(v >= 0 for v in x_b) and all(v == 0 for j, v in zip(basic, x_b) if j >= k):
+        return True
+    p = solve(cols, [0 if j < k else 1 for j in basic])
+    if p is None:
+        return None
+    den = 1
+    for v in p:
+        den = den * v.denominator // gcd(den, v.denominator)
+    pi = [int(v * den) for v in p]
+    if sum(v * r for v, r in zip(pi, rhs)) <= 0:
+        return None
+    for j in range(k):
+        if sum(pi[r] * rows[r][j] for r in range(m) if pi[r]) > 0:
+            return None
+    return False
 
 
 def kohlberg_check(game: Game, x: Sequence[Fraction], prenucleolus: bool | None = None) -> bool:
