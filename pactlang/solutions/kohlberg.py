@@ -133,8 +133,9 @@ def _decided_by_highs(a: list[list[int]], b: list[int]) -> bool | None:
     """True or False with an exact proof from HiGHS's final basis, or None when none holds.
 
     Phase-1 program: minimise sum(s) subject to A y + s = b (rows signed so
-    that b >= 0), y, s >= 0. Its optimal basis B gives x_B = B^-1 b and the
-    dual p = B^-T c_B. If x_B >= 0 with every artificial at zero, y solves
+    that b >= 0), y, s >= 0. Its optimal basis B (the basic columns on the
+    rows whose own logical is not basic) gives x_B = B^-1 b and the dual
+    p = B^-T c_B (zero on the other rows). If x_B >= 0 with every artificial at zero, y solves
     A y = b; if instead p.A_j <= 0 for every column j and p.b > 0, no y >= 0
     can (p.(A y) <= 0 < p.b). Both are checked in exact arithmetic.
     """
@@ -151,20 +152,29 @@ def _decided_by_highs(a: list[list[int]], b: list[int]) -> bool | None:
                           np.array(rhs, dtype=np.float64), 0.0, None)
     except ImportError:
         return None
-    if ans.status != "optimal" or ans.col_basic is None:
+    if ans.status != "optimal" or ans.col_basic is None or ans.row_basic is None:
         return None
+    # HiGHS may keep a row's own logical variable basic (a redundant row): the
+    # basis is then the basic columns on the other rows, a square system.
     basic = np.flatnonzero(ans.col_basic).tolist()
-    if len(basic) != m:
+    on = np.flatnonzero(~ans.row_basic).tolist()
+    if len(basic) != len(on):
         return None
-    cols = [[rows[r][j] if j < k else int(j - k == r) for r in range(m)] for j in basic]
-    x_b = solve([[col[r] for col in cols] for r in range(m)], rhs)
+    full = [row + [int(j == r) for j in range(m)] for r, row in enumerate(rows)]
+    square = [[full[r][j] for j in basic] for r in on]
+    x_b = solve(square, [rhs[r] for r in on]) if basic else []
     if x_b is None:
         return None
-    if all(v >= 0 for v in x_b) and all(v == 0 for j, v in zip(basic, x_b) if j >= k):
+    y = dict(zip(basic, x_b))
+    if (all(v >= 0 for v in x_b) and all(v == 0 for j, v in y.items() if j >= k)
+            and all(sum(full[r][j] * v for j, v in y.items()) == rhs[r] for r in range(m))):
         return True
-    p = solve(cols, [0 if j < k else 1 for j in basic])
-    if p is None:
+    p_on = solve([[full[r][j] for r in on] for j in basic], [0 if j < k else 1 for j in basic]) if basic else []
+    if p_on is None:
         return None
+    p = [Fraction(0)] * m
+    for r, v in zip(on, p_on):
+        p[r] = v
     den = 1
     for v in p:
         den = den * v.denominator // gcd(den, v.denominator)
