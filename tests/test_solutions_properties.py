@@ -131,7 +131,7 @@ def test_shapley_additivity(data):
 @contextmanager
 def exact_simplex_only():
     """Kohlberg's balancedness LPs decided by the Fraction simplex alone (the old path)."""
-    with patch.object(kohlberg, "_decided_by_highs", lambda a, b: None):
+    with patch.object(kohlberg, "_decided_by_highs", lambda a, b: (None, None)):
         yield
 
 
@@ -151,18 +151,35 @@ def test_highs_decision_with_exact_proof_agrees_with_exact_simplex(system):
     a, b = system
     truth = simplex(a, b, [0] * len(a[0])).status == "optimal"
     # Small integer systems are always decided from HiGHS's basis, with the exact proof.
-    assert kohlberg._decided_by_highs(a, b) == truth
+    got, farkas = kohlberg._decided_by_highs(np.array(a, dtype=np.int64), b)
+    assert got == truth
+    if farkas is not None:  # p.A_j <= 0 for every column and p.b > 0: no y >= 0 solves A y = b
+        assert all(sum(p * row[j] for p, row in zip(farkas, a)) <= 0 for j in range(len(a[0])))
+        assert sum(p * v for p, v in zip(farkas, b)) > 0
     assert kohlberg.has_nonnegative_solution(a, b) == truth
     assert kohlberg.has_nonnegative_solution(a, b, use_floats=False) == truth
 
 
 def test_highs_decides_both_ways_with_a_proof():
+    decide = lambda a, b: kohlberg._decided_by_highs(np.array(a, dtype=np.int64), b)
     # y >= 0 with y0 + y1 = 2, y0 - y1 = 0: y = (1, 1).
-    assert kohlberg._decided_by_highs([[1, 1], [1, -1]], [2, 0]) is True
-    # y0 + y1 = -1 has no solution with y >= 0 (Farkas: p = -1).
-    assert kohlberg._decided_by_highs([[1, 1]], [-1]) is False
+    assert decide([[1, 1], [1, -1]], [2, 0]) == (True, None)
+    # y0 + y1 = -1 has no solution with y >= 0 (Farkas: p = (-1)).
+    assert decide([[1, 1]], [-1]) == (False, [-1])
     # Dependent rows (the second is twice the first) and an unused column.
-    assert kohlberg._decided_by_highs([[1, 2, 0], [2, 4, 0]], [3, 6]) is True
+    assert decide([[1, 2, 0], [2, 4, 0]], [3, 6]) == (True, None)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.integers(1, 4), st.lists(st.lists(st.integers(-2, 2), min_size=4, max_size=4), min_size=1, max_size=60),
+       st.lists(st.integers(-8, 8), min_size=4, max_size=4))
+def test_column_generation_agrees_with_exact_simplex(dim, cols, b):
+    """Few columns per program (patched) so that Farkas vectors must be refuted and columns added."""
+    cols = np.array([c[:dim] for c in cols], dtype=np.int64)
+    b = b[:dim]
+    with patch.object(kohlberg, "FIRST_COLUMNS", 2), patch.object(kohlberg, "ADD_COLUMNS", 1):
+        fast = kohlberg.cone_contains(cols, b)
+    assert fast == kohlberg.cone_contains(cols, b, use_floats=False)
 
 
 @SETTINGS
@@ -204,7 +221,7 @@ def test_voting_16_symmetric_players_and_a_null_player():
 
     def recording(a, b):
         got = real(a, b)
-        decided.append(got)
+        decided.append(got[0])
         return got
 
     with patch.object(kohlberg, "_decided_by_highs", recording):
