@@ -200,3 +200,53 @@ def test_multipliers_found_on_the_dual_support(ws):
         mp.setattr(lp._Solver, "_dual_from_basis", lambda self, *a: None)
         assert least_core(game).value == want_lc.value
         assert nucleolus(game) == want_nu
+
+
+# -- the one door to HiGHS ------------------------------------------------------------
+def test_highs_lp_point_duals_and_basis_match_linprog():
+    from scipy.optimize import linprog
+    from scipy.sparse import csr_matrix
+
+    from pactlang.solutions import highs
+
+    c = [1.0, 2.0, 3.0]
+    a_ub, b_ub = np.array([[-1.0, -1.0, 0.0], [-1.0, 0.0, -1.0]]), [-2.0, -1.0]
+    a_eq, b_eq = np.array([[1.0, 1.0, 1.0]]), [3.0]
+    ref = linprog(c, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq, method="highs-ds")
+    a = np.vstack([a_ub, a_eq])
+    for form in (a, csr_matrix(a), (a[a != 0], np.nonzero(a))):
+        got = highs.solve(c, form, [-np.inf, -np.inf, 3.0], [-2.0, -1.0, 3.0], 0.0, None)
+        assert got.status == "optimal"
+        assert np.allclose(got.x, ref.x) and np.isclose(got.objective, ref.fun)
+        # linprog's marginals are HiGHS's row duals; its residuals are b_ub - A_ub x.
+        assert np.allclose(got.row_dual, np.r_[ref.ineqlin.marginals, ref.eqlin.marginals])
+        assert np.allclose(np.array(b_ub) - got.row_value[:2], ref.ineqlin.residual)
+        assert got.col_basic.sum() + got.row_basic.sum() == 3  # a basis: one basic variable per row
+
+
+def test_highs_statuses_and_integer_programs():
+    from pactlang.solutions import highs
+
+    assert highs.solve([0.0, 0.0], np.array([[1.0, 1.0]]), [3.0], [2.0]).status == "infeasible"
+    assert highs.solve([-1.0, 0.0], np.array([[1.0, 1.0]]), [3.0], None).status == "unbounded"
+    # max x0 + x1 with x0 + 2 x1 <= 2, 3 x0 + x1 <= 3, integers: (1, 0) or (0, 1), value 1.
+    got = highs.solve([-1.0, -1.0], np.array([[1.0, 2.0], [3.0, 1.0]]), None, [2.0, 3.0], integrality=[1, 1],
+                      options={"mip_rel_gap": 0.0})
+    assert got.status == "optimal" and got.objective == -1.0 and sorted(got.x.round()) == [0.0, 1.0]
+    with pytest.raises(ValueError, match="rejects option"):
+        highs.solve([1.0], np.array([[1.0]]), [0.0], None, options={"no such option": 1})
+
+
+def test_highs_reached_without_importing_scipy_optimize():
+    import subprocess
+    import sys
+
+    # Loaded from its file (the package's __init__ imports the LP engine, which still uses linprog).
+    code = ("import importlib.util, sys\n"
+            "spec = importlib.util.spec_from_file_location('h', 'pactlang/solutions/highs.py')\n"
+            "h = importlib.util.module_from_spec(spec); sys.modules['h'] = h; spec.loader.exec_module(h)\n"
+            "assert h.solve([1.0], [[1.0]], [1.0], None).status == 'optimal'\n"
+            "print('scipy.optimize' in sys.modules)\n")
+    root = __file__.rsplit("/tests/", 1)[0]
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=root, check=True)
+    assert out.stdout.strip() == "False"
