@@ -250,3 +250,37 @@ def test_highs_reached_without_importing_scipy_optimize():
     root = __file__.rsplit("/tests/", 1)[0]
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=root, check=True)
     assert out.stdout.strip() == "False"
+
+
+# -- fraction-free elimination ----------------------------------------------------------
+small_fractions = st.fractions(-6, 6, max_denominator=4)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1, 6).flatmap(lambda k: st.tuples(
+    st.lists(st.lists(small_fractions | st.just(F(0)), min_size=k, max_size=k), min_size=k, max_size=k),
+    st.lists(small_fractions, min_size=k, max_size=k))))
+def test_square_solve_is_exact_or_reports_singular(system):
+    a, b = system
+    x = solve(a, b)
+    if x is None:
+        assert null_space(a, len(a))  # singular: a nonzero kernel vector exists
+    else:
+        assert all(sum(r * v for r, v in zip(row, x)) == rhs for row, rhs in zip(a, b))
+        assert not null_space(a, len(a))
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1, 7).flatmap(lambda n: st.tuples(
+    st.just(n), st.lists(st.lists(st.integers(-3, 3), min_size=n, max_size=n), max_size=6))))
+def test_null_space_is_an_integer_basis_of_the_kernel(data):
+    n, rows = data
+    basis = null_space(rows, n)
+    span = Span(n)
+    rank = sum(1 for r in rows if span.add(r))
+    assert len(basis) == n - rank
+    assert all(isinstance(v, int) for vec in basis for v in vec)
+    assert all(sum(r * v for r, v in zip(row, vec)) == 0 for row in rows for vec in basis)
+    independent = Span(n)
+    assert all(independent.add(vec) for vec in basis)
+    assert span.kernel() == basis and span.kernel() is not span.kernel()  # cached, handed out as copies
