@@ -284,3 +284,21 @@ def test_null_space_is_an_integer_basis_of_the_kernel(data):
     independent = Span(n)
     assert all(independent.add(vec) for vec in basis)
     assert span.kernel() == basis and span.kernel() is not span.kernel()  # cached, handed out as copies
+
+
+def test_excess_levels_in_batches_match_a_full_sort():
+    # 2**13 - 2 coalitions with many distinct excesses and ties: the levels come in
+    # several doubling batches, and must equal grouping a full sort.
+    rng = np.random.default_rng(5)
+    n = 13
+    nums = rng.integers(0, 60, size=1 << n).astype(np.int64)
+    nums[0] = 0
+    game = Game(n, lambda m: F(int(nums[m])), nums.astype(np.float64), (nums, 1), tuple(f"p{i}" for i in range(n)))
+    x = [F(int(v), 3) for v in rng.integers(0, 40, size=n)]
+    got = list(ExcessTable(game, x).levels())
+    brute: dict = {}
+    for m in range(1, (1 << n) - 1):
+        e = F(int(nums[m])) - sum((x[i] for i in range(n) if m >> i & 1), F(0))
+        brute.setdefault(e, []).append(m)
+    assert got == sorted(brute.items(), key=lambda p: -p[0])
+    assert len(got) > 300
