@@ -542,3 +542,99 @@ def test_progress_is_silent_off_a_terminal_and_draws_on_one():
     check_model(model, CheckOptions(progress=progress))
     out = stream.getvalue()
     assert "[file 1/1]" in out and '"deep range"' in out and out.endswith("\r\x1b[K")
+
+
+# ---------------------------------------------------------------- a withdrawn party named in the agreement
+
+MEMBER_BONUS = """\
+agreement "m"
+shares value
+party a: w 2
+party b: w 1
+party c: w 1
+worth S = count(S) + 5 * (a in S) + (if (a in S) and (b in S) then 3 else 0)
+{rows}
+{payout}
+contingency "a leaves" {{ {lines} }}
+require stable
+require balanced budget
+"""
+
+# the same agreement read for b and c only, written by hand: `a in S` is 0 for each of their coalitions
+MEMBER_BONUS_SMALL = """\
+agreement "m"
+shares value
+party b: w 1
+party c: w 1
+worth S = count(S)
+{rows}
+{payout}
+{contingency}
+require stable
+require balanced budget
+"""
+
+
+def _bonus(rows="", payout="payout by equal split", lines="without a"):
+    return model_of(MEMBER_BONUS.format(rows=rows, payout=payout, lines=lines))
+
+
+def _bonus_small(rows="", payout="payout by equal split", contingency=""):
+    return model_of(MEMBER_BONUS_SMALL.format(rows=rows, payout=payout, contingency=contingency))
+
+
+def test_a_withdrawn_party_is_in_no_coalition_of_the_smaller_game():
+    # `a in S` raised "tuple.index(x): x not in tuple" under `without a`
+    model = _bonus()
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    want = Checker(_bonus_small(), CheckOptions()).run()
+    assert summary(got) == summary(want)
+    # v({b}) = v({c}) = 1, v({b, c}) = 2, each gets 1: every excess is 0 [derived]
+    assert [(r.status, r.worst_excess) for r in got] == [(HOLDS, F(0)), (HOLDS, F(0))]
+
+
+def test_check_model_runs_the_baseline_and_the_withdrawal_of_a_named_party():
+    results = check_model(_bonus(), CheckOptions())
+    assert [(r.contingency, r.status) for r in results] == [
+        (None, FAILS), (None, HOLDS), ("a leaves", HOLDS), ("a leaves", HOLDS)]
+
+
+def test_a_withdrawn_party_named_in_the_formula_under_a_range():
+    # the Z3 path reads the formula too: the same smaller game with the same range
+    model = _bonus(payout="payout by proportional to w", lines="without a; w of b in 1 .. 3")
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    small = _bonus_small(payout="payout by proportional to w",
+                         contingency='contingency "a leaves" { w of b in 1 .. 3 }')
+    want = check_contingency(small, small.contingencies[0], CheckOptions())
+    assert summary(got) == summary(want)
+    # x_b = 2 w_b / (w_b + 1) >= 1 = v({b}) and x_c = 2 / (w_b + 1) <= 1 = v({c}): c's excess
+    # 1 - 2 / (w_b + 1) is largest at w_b = 3, where it is 1/2 [derived]
+    core, budget = got
+    assert (core.status, core.worst_excess, budget.status) == (FAILS, F(1, 2), HOLDS)
+    assert core.counterexamples[0].coalition == ("c",) and core.counterexamples[0].parameters == {"w of b": F(3)}
+
+
+def test_lines_about_a_withdrawn_party_are_ignored():
+    # its attribute fixed or ranged, its payout line, the table rows and ranged worths naming it
+    rows = "worth {a, b} = 40\nworth {b, c} = 2"
+    lines = "w of a = 7; w of a in 1 .. 2; w of a in 3 .. 3; worth {a, c} in 0 .. 9; without a"
+    model = _bonus(rows=rows, payout="payout a = 3\npayout rest by proportional to w", lines=lines)
+    scenario = scenario_of(model, model.contingencies[0])
+    assert scenario.model.parties == ("b", "c") and scenario.ranged == [] and scenario.fixed == {}
+    assert scenario.notes == [
+        "`w of a` is ignored: the party has withdrawn",
+        "`w of a` is ignored: the party has withdrawn",
+        "`w of a` is ignored: the party has withdrawn",
+        "`worth {a, c}` is ignored: a member has withdrawn"]
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    small = _bonus_small(rows="worth {b, c} = 2", payout="payout rest by proportional to w")
+    assert summary(got) == summary(Checker(small, CheckOptions()).run())
+
+
+def test_a_rule_left_with_nobody_to_share_among_is_a_failed_budget_not_a_crash():
+    # b and c have fixed lines; the rest rule shared among a alone, who leaves:
+    # worth(all) = 2 of the smaller game is paid 1/2 + 1/2, so 1 is left unpaid [derived]
+    model = _bonus(payout="payout b = 0.5\npayout c = 0.5\npayout rest by equal split")
+    core, budget = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert budget.status == FAILS and budget.worst_excess == F(1)
+    assert core.status == FAILS
