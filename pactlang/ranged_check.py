@@ -87,6 +87,10 @@ class RangedCheck:
         self.queries = queries = Queries(enc)
         deadline = Deadline(self.limit)
         proper = self.proper_scope()
+        if enc.scrb_parts is not None:
+            reason = self._scrb_form(deadline)
+            if reason is not None:
+                return reason
         for term, what in enc.divisors:
             m = queries.solve([proper, term == 0], deadline)
             if m is not None:
@@ -117,6 +121,33 @@ class RangedCheck:
                 if symbolic != worths.exact(mask):
                     return (f"internal: the encoded worth of {{{', '.join(self.model.names_of(mask))}}} "
                             f"disagrees with the exact one at {where}")
+        self.points.attach(enc)
+        return None
+
+    def _scrb_form(self, deadline: Deadline) -> str | None:
+        """Decide where the sum of the remaining benefits is zero and choose the
+        encoding of the rule (`Encoding.scrb_form`); the reason when the rule is
+        not defined somewhere in the ranges."""
+        enc, queries = self.enc, self.queries
+        _, _, total, left = enc.scrb_parts
+        total, left = enc.z(total), enc.z(left)
+        zero = queries.solve([total == 0], deadline)
+        if zero is None:
+            enc.scrb_form("never")
+            return None
+        bad = queries.solve([total == 0, left != 0], deadline)
+        if bad is not None:
+            _, values = queries.witness(bad, deadline, extra=[total == 0, left != 0])
+            shown = ", ".join(f"{k} = {v}" for k, v in values.items())
+            return ("separable costs remaining benefits is not defined where the remaining benefits add up "
+                    f"to zero and the non-separable part does not (at {shown})")
+        if queries.solve([total != 0], deadline) is None:
+            enc.scrb_form("always")
+            return None
+        positive = queries.solve([total > 0], deadline) is not None
+        negative = queries.solve([total < 0], deadline) is not None
+        enc.scrb_form("sometimes, changing sign" if positive and negative
+                      else "sometimes, positive" if positive else "sometimes, negative")
         return None
 
     def proper_scope(self):

@@ -638,3 +638,73 @@ def test_a_rule_left_with_nobody_to_share_among_is_a_failed_budget_not_a_crash()
     core, budget = check_contingency(model, model.contingencies[0], CheckOptions())
     assert budget.status == FAILS and budget.worst_excess == F(1)
     assert core.status == FAILS
+
+
+# ---------------------------------------------------------------- separable costs remaining benefits where sum r = 0
+
+ADDITIVE_SCRB = """\
+agreement "Additive"
+shares cost
+party p0: a 1
+party p1: a 2
+party p2: a 3
+worth S = sum(a in S)
+payout by separable costs remaining benefits
+contingency "r" { a of p0 in 0 .. 2 }
+require stable
+require individually rational
+require balanced budget
+"""
+
+
+def test_scrb_on_an_additive_game_under_a_range_holds():
+    # c(S) = sum of a: s_i = a_i, r_i = 0 everywhere and c(N) - sum s = 0, so the rule
+    # pays s_i (as `rules.separable_costs_remaining_benefits` does for fixed values)
+    # and every excess is 0 [derived]; it was unknown ("can be zero")
+    model = model_of(ADDITIVE_SCRB)
+    results = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert [(r.status, r.worst_excess) for r in results] == [(HOLDS, F(0))] * 3
+    assert results[0].worst_coalition == ("p0",)  # ties: the smallest coalition, then party order
+
+
+SCRB_ZERO_AT_A_POINT = """\
+agreement "Three sites"
+shares cost
+party p0
+party p1
+party p2
+worth {{p0}} = 1
+worth {{p1}} = 3
+worth {{p2}} = 3
+worth {{p1, p2}} = 4
+worth {{p0, p2}} = 4
+worth {{p0, p1}} = 4
+worth {{p0, p1, p2}} = {all}
+payout by separable costs remaining benefits
+contingency "r" {{ worth {{p0}} in {low} .. 4 }}
+require stable
+"""
+
+
+@pytest.mark.parametrize("low", ["0", "-1"])
+def test_scrb_where_the_remaining_benefits_add_up_to_zero_at_one_value(low):
+    # c(N) = 6: s_i = 6 - 4 = 2, c(N) - sum s = 0, r = (t - 2, 1, 1), sum r = t: zero at t = 0
+    # (inside the range) where the rule still pays s = (2, 2, 2). {p0} pays 2 against t, so the
+    # worst excess is 2 - low at t = low; pairs pay 4 = c(S) [derived]. With low = -1 sum r
+    # takes both signs.
+    model = model_of(SCRB_ZERO_AT_A_POINT.format(all="6", low=low))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.worst_coalition) == (FAILS, 2 - F(low), ("p0",))
+    c = r.counterexamples[0]
+    assert (c.coalition, c.excess, c.parameters) == (("p0",), 2 - F(low), {"worth {p0}": F(low)})
+    assert [c.coalition for c in r.counterexamples] == [("p0",)]
+
+
+def test_scrb_not_defined_somewhere_in_the_range_is_unknown_with_where():
+    # c(N) = 7: s_i = 3, c(N) - sum s = -2, r = (t - 3, 0, 0): sum r = 0 at t = 3 while
+    # something remains to share, where the rule has no value [derived]
+    model = model_of(SCRB_ZERO_AT_A_POINT.format(all="7", low="0"))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert r.status == UNKNOWN
+    assert r.reason == ("separable costs remaining benefits is not defined where the remaining benefits add up "
+                        "to zero and the non-separable part does not (at worth {p0} = 3)")
