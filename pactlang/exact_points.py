@@ -19,6 +19,7 @@ from .scenario import Scenario
 from .worths import Worths, excess, paid_by, payout
 
 EXACT_CACHE_SIZE = 4096  # evaluated value sets kept before the cache starts over
+NEAR_THRESHOLD = (10**3, 10**6)  # beside a threshold: at width / k of the range from it
 
 
 @dataclass
@@ -112,7 +113,13 @@ class ExactPoints:
             improved = False
             for r in self.scenario.ranged:
                 cands = set(self._candidates[r.key])
-                cands.update(t for t, _ in self.thresholds(best.mask, best.values, r))
+                width = r.high - r.low
+                for t, _ in self.thresholds(best.mask, best.values, r):
+                    # the threshold, and points just beside it: where the worst is on its open
+                    # side they come as close to it as the excess allows
+                    cands.update(c for k in NEAR_THRESHOLD for c in (t - width / k, t + width / k)
+                                 if r.low <= c <= r.high)
+                    cands.add(t)
                 for c in sorted(cands):
                     if c == best.values[r.key]:
                         continue

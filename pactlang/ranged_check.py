@@ -33,6 +33,7 @@ from .worths import PayoutUnavailable
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
 DEFAULT_TIME_LIMIT = 60.0  # seconds per requirement when --time-limit is not given
+MAX_RANKING_QUERIES = 200  # queries spent ordering the counterexamples of one requirement
 
 
 def allowed(req: ast.Require, worth: Fraction) -> Fraction:
@@ -232,39 +233,77 @@ class RangedCheck:
     # ------------------------------------------------------------ violators
     def violators(self, cond, scope, deadline: Deadline, violates) -> list[Point]:
         """Up to `top` coalitions that violate `cond` for some values, worst
-        first, each with values at which it does, re-checked exactly.
+        first, each at its worst violating values, re-checked exactly.
 
         A plain satisfiability query decides first (unsat is the proof that
-        nothing violates); then, in the time left, the worst violators are
-        ranked, each found coalition cut off by a no-good on the membership
-        Booleans before the next query."""
-        enc = self.enc
+        nothing violates). Then, in the time left, the list is ranked: each
+        query asks for a point that beats what is known, either a coalition
+        not listed with an excess above the `top`-th (or equal to it and
+        before it in the checker's order) or a listed coalition above its own
+        best. Unsat proves the list and each coalition's worst; a witness is
+        moved to its coalition's worst breakpoint (`ExactPoints.polish`) and
+        the query repeated."""
         first = self.queries.solve([scope, cond], deadline)
         if first is None:
             return []
         witness = self._checked_point(first, [scope, cond], deadline, violates)
-        found: list[Point] = []
-        cuts = []
+        found: dict[int, Point] = {}
+        bound: dict[int, Fraction] = {}  # per listed coalition: a value its violating excess is below or at
+
+        def add(p: Point) -> None:
+            p = self.points.polish(p, violates)
+            if p.mask not in found or p.excess > found[p.mask].excess:
+                found[p.mask] = p
+            bound[p.mask] = max(bound.get(p.mask, p.excess), self._coalition_limit(p, cond, scope, deadline))
+
+        self.order_proved = False
         try:
-            while len(found) < self.options.top:
-                constraints = [scope, cond, *cuts]
-                if enc.linear:
+            add(witness)
+            for _ in range(MAX_RANKING_QUERIES):
+                ranked = sorted(found.values(), key=_rank)
+                constraints = [scope, cond, *(self._beats(mask, bound[mask]) for mask in found)]
+                if len(ranked) >= self.options.top:
+                    kth = ranked[self.options.top - 1]
+                    constraints.append(z3.Or(self._above(kth.excess),
+                                             z3.And(self._reaches(kth.excess), self.enc.ranks_before(kth.mask))))
+                if self.enc.linear:
                     answer = self.queries.maximize(self.e_num, constraints, deadline)
                     zmodel = None if answer is None else answer[1]
                 else:
                     zmodel = self.queries.solve(constraints, deadline)
                 if zmodel is None:
+                    self.order_proved = True
                     break
-                p = self._checked_point(zmodel, constraints, deadline, violates)
-                found.append(self.points.polish(p, violates))
-                cuts.append(z3.Not(enc.is_coalition(p.mask)))
+                add(self._checked_point(zmodel, constraints, deadline, violates))
         except QueryUnknown:
-            pass  # the refutation in hand stands; the list is just shorter
-        if not any(p.mask == witness.mask for p in found):
-            found.append(self.points.polish(witness, violates))
-        # the solver finds coalitions in an order of its own: list them in the checker's order
-        found.sort(key=_rank)
-        return found[: self.options.top]
+            pass  # the refutation in hand stands; the list is the best found in the time
+        return sorted(found.values(), key=_rank)[: self.options.top]
+
+    def _above(self, value: Fraction):
+        """Z3 condition: the coalition's excess is above `value`."""
+        enc = self.enc
+        return enc.zb(enc.compare(">", self.e_num, enc.scale(enc.den, value)))
+
+    def _reaches(self, value: Fraction):
+        """Z3 condition: the coalition's excess is `value` or more."""
+        enc = self.enc
+        return enc.zb(enc.compare(">=", self.e_num, enc.scale(enc.den, value)))
+
+    def _beats(self, mask: int, value: Fraction):
+        """Z3 condition: another coalition than `mask`, or `mask` above `value`."""
+        return z3.Or(z3.Not(self.enc.is_coalition(mask)), self._above(value))
+
+    def _coalition_limit(self, p: Point, cond, scope, deadline: Deadline) -> Fraction:
+        """The best bound known for the coalition of `p`: its excess, or the
+        largest limit of its excess at a threshold when no violating point of
+        the coalition exceeds that limit (then the list need not chase a
+        supremum that is not attained)."""
+        limits = [lim for lim, _, _ in self.points.side_limits(p.mask, p.values) if lim > p.excess]
+        if not limits:
+            return p.excess
+        top = max(limits)
+        m = self.queries.solve([scope, cond, self.enc.is_coalition(p.mask), self._above(top)], deadline)
+        return top if m is None else p.excess
 
     def _checked_point(self, zmodel, constraints, deadline: Deadline, violates) -> Point:
         """The violating point of a Z3 model, re-checked exactly; when an

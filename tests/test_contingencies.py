@@ -708,3 +708,66 @@ def test_scrb_not_defined_somewhere_in_the_range_is_unknown_with_where():
     assert r.status == UNKNOWN
     assert r.reason == ("separable costs remaining benefits is not defined where the remaining benefits add up "
                         "to zero and the non-separable part does not (at worth {p0} = 3)")
+
+
+# ---------------------------------------------------------------- a worst case on a threshold
+
+SCANNING = """\
+agreement "Regional scanning service"
+shares cost in kEUR
+party st_anne:   scans 4200
+party riverside: scans 3100
+party northgate: scans 2500
+party childrens: scans 900
+party hillcrest: scans 600
+worth S = 900 * (1 + (if sum(scans in S) > 6000 then 1 else 0) + (if sum(scans in S) {op} 12000 then 1 else 0)) + 0.05 * sum(scans in S) + 40 * count(S)
+worth {{st_anne}} = 1050
+payout childrens = 8%
+payout rest by proportional to scans
+contingency "volume growth" {{ scans of riverside in 3100 .. 4500 }}
+require stable
+"""
+
+# at riverside = 4400, {st_anne, riverside, northgate, childrens} reaches 12000 scans: c(S) = 1800 + 600 +
+# 160 = 2560 while c(N) = 2700 + 630 + 200 = 3530, childrens pays 282.4 and hillcrest 3247.6 * 600 / 11700;
+# the four pay 3530 - 3247.6 * 600 / 11700 = 655874/195, an excess of 156674/195 (~803.46) [derived]
+SCANNING_WORST = F(156674, 195)
+
+
+def _scanning_rows(r):
+    return [(c.coalition, c.excess, c.parameters["scans of riverside"]) for c in r.counterexamples]
+
+
+def test_a_worst_case_exactly_on_a_threshold_is_found_and_listed_first():
+    # it was "not settled", and the table started with an excess of ~368 at 4500
+    model = model_of(SCANNING.format(op=">"))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.method) == (FAILS, SCANNING_WORST, "z3 bisection")
+    assert r.worst_coalition == ("st_anne", "riverside", "northgate", "childrens")
+    rows = _scanning_rows(r)
+    assert rows[0] == (("st_anne", "riverside", "northgate", "childrens"), SCANNING_WORST, F(4400))
+    assert [e for _, e, _ in rows] == sorted((e for _, e, _ in rows), reverse=True)
+    # the next ones [derived the same way]: {st_anne, riverside, northgate, hillcrest} comes closer and
+    # closer to 705 as riverside falls to 3800 from above (c(N) steps up there), never reaching it;
+    # {st_anne, riverside, northgate} is worst at 4500 with 179016/295
+    assert rows[1][0] == ("st_anne", "riverside", "northgate", "hillcrest") and F(70499, 100) < rows[1][1] < 705
+    assert 3800 < rows[1][2] < F(38001, 10)
+    assert rows[2] == (("st_anne", "riverside", "northgate"), F(179016, 295), F(4500))
+    for c in r.counterexamples:
+        e, w = exact_excess_at(model, model.mask_of(c.coalition),
+                               attrs={("scans", "riverside"): c.parameters["scans of riverside"]})
+        assert (e, w) == (c.excess, c.worth) and e > 0
+
+
+def test_a_worst_case_at_the_open_side_of_a_threshold_is_a_supremum_not_attained():
+    # with `>=` the four-party cost steps up at 4400 itself: the excess comes arbitrarily close to
+    # 156674/195 from below 4400 and never reaches it [derived]
+    model = model_of(SCANNING.format(op=">="))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.method) == (FAILS, SCANNING_WORST, "z3 bisection (supremum not attained)")
+    rows = _scanning_rows(r)
+    assert rows[0][0] == ("st_anne", "riverside", "northgate", "childrens")
+    assert SCANNING_WORST - F(1, 100) < rows[0][1] < SCANNING_WORST and F(43999, 10) < rows[0][2] < 4400
+    # the second one now reaches its worst 705 at 3800, where c(N) has already stepped up [derived]
+    assert rows[1] == (("st_anne", "riverside", "northgate", "hillcrest"), F(705), F(3800))
+    assert [e for _, e, _ in rows] == sorted((e for _, e, _ in rows), reverse=True)
