@@ -474,6 +474,10 @@ require stable
 TIE_ORDERS = [
     ("d grows", 5, [("a", "b", "c"), ("a", "b"), ("a", "c"), ("b", "c"), ("a", "d")], [6, 5, 5, 5, 5]),
     ("rate moves", 6, [("a", "d"), ("b", "d"), ("c", "d"), ("a", "b"), ("a", "c"), ("b", "c")], [5, 5, 5, 1, 1, 1]),
+    # fewer places than tied coalitions: the first ones in the checker's order take them
+    ("rate moves", 2, [("a", "d"), ("b", "d")], [5, 5]),
+    ("rate moves", 4, [("a", "d"), ("b", "d"), ("c", "d"), ("a", "b")], [5, 5, 5, 1]),
+    ("d grows", 3, [("a", "b", "c"), ("a", "b"), ("a", "c")], [6, 5, 5]),
 ]
 
 
