@@ -57,21 +57,25 @@ class ExactPoints:
         key = tuple(sorted(values.items()))
         hit = self._cache.get(key)
         if hit is None:
-            attrs, params, worths = {}, {}, {}
-            for r in self.scenario.ranged:
-                v = values[r.key]
-                if r.kind == "attribute":
-                    attrs[(r.attribute, r.party)] = v
-                elif r.kind == "param":
-                    params[r.param] = v
-                else:
-                    worths[r.mask] = v
-            w = Worths(self.model.with_values(attributes=attrs, params=params, worths=worths))
+            w = Worths(self.fixed_model(values))
             hit = (w, payout(w))
             if len(self._cache) > EXACT_CACHE_SIZE:
                 self._cache.clear()
             self._cache[key] = hit
         return hit
+
+    def fixed_model(self, values: dict[str, Fraction]):
+        """The agreement with its ranged quantities at these values."""
+        attrs, params, worths = {}, {}, {}
+        for r in self.scenario.ranged:
+            v = values[r.key]
+            if r.kind == "attribute":
+                attrs[(r.attribute, r.party)] = v
+            elif r.kind == "param":
+                params[r.param] = v
+            else:
+                worths[r.mask] = v
+        return self.model.with_values(attributes=attrs, params=params, worths=worths)
 
     def point(self, mask: int, values: dict[str, Fraction]) -> Point:
         """The coalition `mask` at these values, evaluated exactly."""

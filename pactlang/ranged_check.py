@@ -28,12 +28,13 @@ from .exact_points import ExactPoints, Point
 from .formula import EvaluationError
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario
-from .supremum import supremum
+from .supremum import seeded, supremum
 from .worths import PayoutUnavailable
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
 DEFAULT_TIME_LIMIT = 60.0  # seconds per requirement when --time-limit is not given
 MAX_RANKING_QUERIES = 200  # queries spent ordering the counterexamples of one requirement
+MAX_SEED_RANGES = 6  # up to 2**6 corners are enumerated for candidate points
 
 
 def allowed(req: ast.Require, worth: Fraction) -> Fraction:
@@ -176,10 +177,11 @@ class RangedCheck:
         self.e_num, self.e_worth = self.enc.coalition_excess()
         self._budget_cache = None
         self._sup_cache: dict[str, tuple] = {}
+        self.seeds = self._seed_points()
         results = []
-        for req in self.model.requirements:
+        for index, req in enumerate(self.model.requirements):
             try:
-                results.append(self._requirement(req))
+                results.append(self._requirement(req, self.seeds.get(index, [])))
             except QueryUnknown as exc:
                 results.append(self._result(req, UNKNOWN, None, self._method(), reason=str(exc)))
             except Mismatch as exc:
@@ -189,11 +191,33 @@ class RangedCheck:
                                             reason=getattr(exc, "message", None) or str(exc)))
         return results
 
+    def _seed_points(self) -> dict[int, list[Point]]:
+        """Candidate points for each requirement (by index): the worst coalition
+        and the counterexamples of the enumerating checker at a few fixed
+        values (the corners of the box of ranges), evaluated exactly. They
+        only start the search: every claim is still settled by a query, but
+        when the worst case sits at such a point one unsat query proves it."""
+        from .check import MAX_ENUMERATED, Checker
+        from .scenario import corners
+
+        if self.model.n > MAX_ENUMERATED or len(self.scenario.ranged) > MAX_SEED_RANGES:
+            return {}
+        seeds: dict[int, list[Point]] = {}
+        options = CheckOptions(top=self.options.top, search="enumeration")
+        for values in corners(self.scenario.ranged):
+            at = self.points.fixed_model(values)
+            for index, r in enumerate(Checker(at, options).run()):
+                masks = [self.model.mask_of(c.coalition) for c in r.counterexamples]
+                if r.worst_coalition is not None:
+                    masks.append(self.model.mask_of(r.worst_coalition))
+                seeds.setdefault(index, []).extend(self.points.point(m, values) for m in dict.fromkeys(masks))
+        return seeds
+
     def _method(self, extra: str = "") -> str:
         base = "z3 optimize" if self.enc.linear else "z3 bisection"
         return base + extra
 
-    def _requirement(self, req) -> Result:
+    def _requirement(self, req, seeds: list[Point]) -> Result:
         deadline = Deadline(self.limit)
         if req.kind == "budget":
             return self._budget(req, deadline)
@@ -205,7 +229,26 @@ class RangedCheck:
             if budget is not None:
                 cex.append(self._cex(budget, Fraction(0)))
         cond = self._violation(req)
-        for p in self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth)):
+        in_scope = self._seeds_in(which, seeds)
+        if which not in self._sup_cache and in_scope:
+            # candidates from exact enumeration at the corners: when the best one is the
+            # worst case, two unsat queries prove it, and the verdict follows from it
+            try:
+                quick = seeded(self.queries, self.points, self.e_num, scope,
+                               Deadline(min(self.limit / 3, deadline.left())), in_scope)
+            except QueryUnknown:
+                quick = None
+            if quick is not None:
+                self._sup_cache[which] = quick
+        settled = self._sup_cache.get(which)
+        if settled is not None and settled[0] is not None and settled[0] <= allowed(req, Fraction(0)):
+            # every excess is at most the proved supremum (below it when not attained),
+            # and no allowed excess is below allowed(req, 0): nothing violates
+            violators = []
+        else:
+            violators = self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth),
+                                       in_scope)
+        for p in violators:
             cex.append(self._cex(p, allowed(req, p.worth)))
         cex = cex[: self.options.top]
         status = FAILS if cex else HOLDS
@@ -219,6 +262,16 @@ class RangedCheck:
         worst, worst_mask, note = self._sup_cache[which]
         return self._result(req, status, worst, self._method(note), cex=cex, worst_mask=worst_mask)
 
+    def _seeds_in(self, which: str, own: list[Point]) -> list[Point]:
+        """The seed points of every requirement that lie in the scope, this
+        requirement's own first."""
+        out: dict[tuple, Point] = {}
+        for p in [*own, *(p for ps in self.seeds.values() for p in ps)]:
+            if p.mask in (0, self.model.full) or (which == "singletons" and bin(p.mask).count("1") != 1):
+                continue
+            out.setdefault((p.mask, tuple(sorted(p.values.items()))), p)
+        return list(out.values())
+
     def _violation(self, req):
         """The condition `excess > allowed`, multiplied through by the positive denominator."""
         enc = self.enc
@@ -231,7 +284,7 @@ class RangedCheck:
         return enc.zb(enc.compare(">", self.e_num, bound))
 
     # ------------------------------------------------------------ violators
-    def violators(self, cond, scope, deadline: Deadline, violates) -> list[Point]:
+    def violators(self, cond, scope, deadline: Deadline, violates, seeds=()) -> list[Point]:
         """Up to `top` coalitions that violate `cond` for some values, worst
         first, each at its worst violating values, re-checked exactly.
 
@@ -243,10 +296,14 @@ class RangedCheck:
         best. Unsat proves the list and each coalition's worst; a witness is
         moved to its coalition's worst breakpoint (`ExactPoints.polish`) and
         the query repeated."""
-        first = self.queries.solve([scope, cond], deadline)
-        if first is None:
-            return []
-        witness = self._checked_point(first, [scope, cond], deadline, violates)
+        violating = [p for p in seeds if violates(p)]
+        if violating:
+            witness = max(violating, key=lambda p: p.excess)  # evaluated exactly: the refutation
+        else:
+            first = self.queries.solve([scope, cond], deadline)
+            if first is None:
+                return []
+            witness = self._checked_point(first, [scope, cond], deadline, violates)
         found: dict[int, Point] = {}
         bound: dict[int, Fraction] = {}  # per listed coalition: a value its violating excess is below or at
 
@@ -258,7 +315,8 @@ class RangedCheck:
 
         self.order_proved = False
         try:
-            add(witness)
+            for p in [witness, *violating]:
+                add(p)
             for _ in range(MAX_RANKING_QUERIES):
                 ranked = sorted(found.values(), key=_rank)
                 constraints = [scope, cond, *(self._beats(mask, bound[mask]) for mask in found)]

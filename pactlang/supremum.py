@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from fractions import Fraction
 
+import z3
+
 from .encode_z3 import real
 from .exact_points import ExactPoints
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
@@ -46,6 +48,24 @@ def supremum(queries: Queries, points: ExactPoints, e_num, scope, deadline: Dead
                         raise Mismatch("the worst excess did not re-check exactly")
                 return s, first_attaining(queries, points, e_num, scope, s, mask, deadline), ""
     return bisect(queries, points, e_num, scope, deadline)
+
+
+def seeded(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadline, seeds) -> Supremum | None:
+    """The supremum when it is the best seed (moved to its coalition's worst
+    breakpoint), proved by two unsat queries: no other coalition reaches it,
+    and its own coalition does not exceed it (a query on that coalition
+    alone, so a small one). Then it is attained by that coalition only, which
+    is therefore the first in any order. None when either query is sat."""
+    enc = queries.enc
+    best = points.polish(max(seeds, key=lambda p: (p.excess, -bin(p.mask).count("1"), -p.mask)))
+    bound = enc.scale(enc.den, best.excess)
+    others = [scope, z3.Not(enc.is_coalition(best.mask)), enc.zb(enc.compare(">=", e_num, bound))]
+    if queries.solve(others, deadline) is not None:
+        return None
+    own, _ = enc.fixed_excess(best.mask)
+    if queries.solve([enc.zb(enc.compare(">", own, bound))], deadline) is not None:
+        return None
+    return best.excess, best.mask, ""
 
 
 def first_attaining(queries: Queries, points: ExactPoints, e_num, scope, s: Fraction, mask: int,
