@@ -34,7 +34,7 @@ from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
 DEFAULT_TIME_LIMIT = 60.0  # seconds per requirement when --time-limit is not given
 MAX_RANKING_QUERIES = 200  # queries spent ordering the counterexamples of one requirement
-MAX_SEED_RANGES = 6  # up to 2**6 corners are enumerated for candidate points
+MAX_SEED_BITS = 22  # candidates enumerated only while corners * coalitions stays within 2**22
 
 
 def allowed(req: ast.Require, worth: Fraction) -> Fraction:
@@ -200,17 +200,20 @@ class RangedCheck:
         from .check import MAX_ENUMERATED, Checker
         from .scenario import corners
 
-        if self.model.n > MAX_ENUMERATED or len(self.scenario.ranged) > MAX_SEED_RANGES:
+        if self.model.n > MAX_ENUMERATED or self.model.n + len(self.scenario.ranged) > MAX_SEED_BITS:
             return {}
         seeds: dict[int, list[Point]] = {}
-        options = CheckOptions(top=self.options.top, search="enumeration")
+        options = CheckOptions(top=self.options.top, search="enumeration", time_limit=self.limit / 4)
         for values in corners(self.scenario.ranged):
-            at = self.points.fixed_model(values)
-            for index, r in enumerate(Checker(at, options).run()):
-                masks = [self.model.mask_of(c.coalition) for c in r.counterexamples]
-                if r.worst_coalition is not None:
-                    masks.append(self.model.mask_of(r.worst_coalition))
-                seeds.setdefault(index, []).extend(self.points.point(m, values) for m in dict.fromkeys(masks))
+            try:
+                at = self.points.fixed_model(values)
+                for index, r in enumerate(Checker(at, options).run()):
+                    masks = [self.model.mask_of(c.coalition) for c in r.counterexamples]
+                    if r.worst_coalition is not None:
+                        masks.append(self.model.mask_of(r.worst_coalition))
+                    seeds.setdefault(index, []).extend(self.points.point(m, values) for m in dict.fromkeys(masks))
+            except (PayoutUnavailable, EvaluationError):
+                continue  # no candidates from a corner where the agreement cannot be evaluated
         return seeds
 
     def _method(self, extra: str = "") -> str:
