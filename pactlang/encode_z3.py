@@ -532,8 +532,18 @@ class Encoding:
         return diff if self.model.kind == "value" else self.neg(diff)
 
     def coalition_excess(self) -> tuple[Num, Num]:
-        """(excess * den, worth) of the coalition given by the membership Booleans."""
+        """(excess * den, worth) of the coalition given by the membership Booleans.
+
+        When the denominator reads a ranged quantity, the worth is named by a
+        real of its own, defined by an equation added to `ranges` (so every
+        query carries it): the product worth * den is then a few monomials of
+        that real instead of a copy of den in every leaf of the worth's `if`s,
+        which nonlinear arithmetic handles far better."""
         w = self.worth()
+        if not isinstance(self.den, Fraction) and not isinstance(w, Fraction):
+            named = z3.Real("worth of the coalition")
+            self.ranges.append(named == w)
+            w = named
         return self.excess_num(w, lambda i: self.member[i]), w
 
     def fixed_excess(self, mask: int) -> tuple[Num, Num]:
