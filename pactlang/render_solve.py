@@ -77,3 +77,99 @@ def solve_json(r: SolveReport) -> str:
     if unavailable:
         doc["unavailable"] = unavailable
     return json.dumps(doc, indent=2, ensure_ascii=False)
+
+
+def _percent(fraction) -> str:
+    """1/20 -> `5%`; 1/3 -> `33.33% (exactly 100/3%)`."""
+    text = exact_str(fraction * 100)
+    return f"{float(fraction * 100):.4g}% (exactly {text}%)" if "/" in text else f"{text}%"
+
+
+def repair_text(r, path: str) -> tuple[str, int]:
+    """A `RepairReport` -> the text `repair` prints (payout lines to paste, the
+    rest as `#` comments) and the exit code: 0 met everywhere checked, 1 no
+    payout meets the targets or the repaired lines fail under a contingency,
+    3 something could not be settled."""
+    unit = f" {r.unit}" if r.unit else ""
+    named = ", ".join(f"`{t.label}`" for t in r.targets)
+    lines = []
+    if not r.feasible:
+        single = r.targets[0].allowance if len(r.targets) == 1 else None
+        if single is not None and single.relative:
+            if r.least_percentage is None:
+                lines.append(f"{path}: no payout is {named} at any percentage: {r.unreachable_reason}")
+            else:
+                lines.append(f"{path}: no payout is {named}: the smallest percentage any split reaches is "
+                             f"{_percent(r.least_percentage)}")
+            lines.append("proof: a balanced collection (each party's weights add up to 1); every split leaves")
+            lines.append("these coalitions, on weighted average, more than the target allows:")
+        elif single is not None:
+            lines.append(f"{path}: no payout is {named}: the least-core value is "
+                         f"{human(r.least_core_value)}{unit}, above the target")
+            lines.append("proof: a balanced collection (each party's weights add up to 1) that every split")
+            lines.append("leaves, on weighted average, with at least that excess:")
+        else:
+            lines.append(f"{path}: no payout meets {named} together: every split leaves some coalition")
+            lines.append(f"at least {human(r.least_core_value)}{unit} above what these requirements allow it")
+            lines.append("proof: a balanced collection (each party's weights add up to 1); every split leaves")
+            lines.append("these coalitions, on weighted average, at least that far above their allowance:")
+        for names, weight in r.certificate:
+            lines.append(f"  {human(weight):>16}  {{{', '.join(names)}}}")
+        lines.append(CAUTION)
+        return "\n".join(lines), 1
+    where = ", ".join(f"line {t.line}" for t in r.targets if t.line is not None)
+    meets = named + (f" ({where})" if where else "")
+    if r.total_change == 0:
+        lines.append(f"# {path}: the current payout already meets {meets}")
+    else:
+        lines.append(f"# {path}: nearest payout meeting {meets}: moves {human(r.total_change)}{unit}"
+                     f" in total, at most {human(r.max_change)}{unit} for one party")
+    for line in r.lines:
+        name = line.split()[1] if not line.startswith("payout rest ") else r.balancer
+        was = ""
+        i = r.parties.index(name)
+        if line.startswith("payout rest "):
+            was = f"  # {name}: {human(r.payout[i])}, the rest of worth(all)"
+        if r.current is not None and r.current[i] != r.payout[i]:
+            was += ("  #" if not was else ";") + f" was {human(r.current[i])}"
+        lines.append(f"{line}{was}")
+    code = 0
+    contingencies = sorted({c for c, *_ in r.rechecks if c is not None})
+    if r.rechecks:
+        lines.append(("# checked again with these lines pasted in: baseline" if r.lines else "# checked: baseline")
+                     + (", " + ", ".join(f'"{c}"' for c in contingencies) if contingencies else ""))
+    if r.balancer is not None:
+        lines.append(f"# {r.balancer} takes what is left of worth(all), so the payouts still add up to it"
+                     " when a contingency removes a party or moves worth(all)")
+    if r.not_covered:
+        lines.append("# not covered by this repair:")
+        for note in r.not_covered:
+            lines.append(f"#   {note}")
+        code = 1 if any(" fails " in n for n in r.not_covered) else 3
+    elif contingencies:
+        lines.append("# every repaired requirement holds under every contingency too")
+    lines.append(f"# {CAUTION}")
+    return "\n".join(lines), code
+
+
+def repair_json(r) -> tuple[str, int]:
+    """A `RepairReport` -> the JSON document of `repair` and the exit code (as `repair_text`)."""
+    doc = {"agreement": r.agreement, "target": r.target, "feasible": r.feasible,
+           "requirements": [{"requirement": t.label, "line": t.line} for t in r.targets]}
+    if r.feasible:
+        doc["payout"] = {p: exact_str(v) for p, v in zip(r.parties, r.payout)}
+        doc["total_change"] = exact_str(r.total_change)
+        doc["max_change"] = exact_str(r.max_change)
+        doc["lines"] = r.lines
+        doc["checked"] = [{"contingency": c, "requirement": q, "status": s, **({"reason": why} if why else {})}
+                          for c, q, s, why in r.rechecks]
+        doc["not_covered"] = r.not_covered
+        code = (1 if any(s == "fails" for _, _, s, _ in r.rechecks) else
+                3 if any(s != "holds" for _, _, s, _ in r.rechecks) else 0)
+    else:
+        doc["least_core_value"] = exact_str(r.least_core_value)
+        if r.least_percentage is not None:
+            doc["least_percentage"] = exact_str(r.least_percentage * 100)
+        doc["certificate"] = [{"coalition": list(c), "weight": exact_str(w)} for c, w in r.certificate]
+        code = 1
+    return json.dumps(doc, indent=2, ensure_ascii=False), code

@@ -14,7 +14,7 @@ from fractions import Fraction
 from .model import Model
 from .worths import PayoutUnavailable, Worths, payout
 
-MAX_SOLVED = 22
+from .game import MAX_TABULATED as MAX_SOLVED, TooLarge, require_tabulable  # noqa: F401 (re-exported)
 
 RULES = ("payout", "shapley", "nucleolus", "equal split", "separable costs remaining benefits")
 
@@ -43,17 +43,12 @@ class SolveReport:
     allocations: list[Allocation] = field(default_factory=list)
 
 
-class TooLarge(Exception):
-    """The agreement has too many parties for the explicit solvers."""
-
-
 def solve_model(model: Model) -> SolveReport:
     """Everything `pactlang solve` prints, exact."""
     from . import solutions
     from .solutions.excess import ExcessTable
 
-    if model.n > MAX_SOLVED:
-        raise TooLarge(f"{model.n} parties is above the {MAX_SOLVED} the solvers tabulate")
+    require_tabulable(model.n, "solve")
     worths = Worths(model)
     game = worths.game()
     sign = -1 if model.kind == "cost" else 1
