@@ -6,7 +6,7 @@ import json
 
 from .numbers import exact_str, human
 
-SHORT = {"separable costs remaining benefits": "scrb", "equal split": "equal"}
+SHORT = {"separable costs remaining benefits": "scrb", "equal split": "equal", "least core": "lc nearest"}
 
 
 def _cell(value) -> str:
@@ -34,8 +34,10 @@ def solve_text(r: SolveReport) -> str:
     ]
     for names, weight in r.certificate:
         lines.append(f"    {human(weight):>16}  {_coalition(names)}")
+    lines += _least_core_words(r)
     usable = [a for a in r.allocations if a.payout is not None]
-    head = ["party"] + [SHORT.get(a.rule, a.rule.replace("proportional to ", "prop. ")) for a in usable]
+    short = dict(SHORT, nucleolus=r.nucleolus_kind)
+    head = ["party"] + [short.get(a.rule, a.rule.replace("proportional to ", "prop. ")) for a in usable]
     rows = [head]
     for i, p in enumerate(r.parties):
         rows.append([p] + [_cell(a.payout[i]) for a in usable])
@@ -57,6 +59,38 @@ def solve_text(r: SolveReport) -> str:
     return "\n".join(lines)
 
 
+def _least_core_words(r: SolveReport) -> list[str]:
+    """What the least-core column is, which splits each concept ranges over,
+    and, when the nucleolus ends above the least-core value, why."""
+    unit = f" {r.unit}" if r.unit else ""
+    cost = r.kind == "cost"
+    alone = "charge each party at most what it would pay alone" if cost else \
+        "give each party at least what it earns alone"
+    lines = [
+        "  the least core is a set: every split of worth(all) whose worst excess is at most that value;",
+        f"  the `lc nearest` column is the one nearest to the {'agreement' + chr(39) + 's payout' if r.least_core_anchor == 'payout' else 'equal split'}"
+        " (least money moved)",
+        "  the least core ranges over every split of worth(all); "
+        + ("the nucleolus only over splits that" if r.nucleolus_kind == "nucleolus" else "no split can"),
+        f"  {alone}" + ("" if r.nucleolus_kind == "nucleolus" else
+                        ", so the prenucleolus (over every split) stands in for the nucleolus"),
+    ]
+    nuc = next((a for a in r.allocations if a.rule == "nucleolus" and a.payout is not None), None)
+    if nuc is None or r.nucleolus_kind != "nucleolus" or nuc.worst_excess <= r.least_core_value:
+        return lines
+    sign = -1 if cost else 1
+    short = [i for i, (x, v) in enumerate(zip(r.least_core_payout, r.alone)) if sign * (x - v) < 0]
+    lines.append(f"  the nucleolus' worst excess ({human(nuc.worst_excess)}{unit}) is above the least-core value: "
+                 "every least-core split")
+    lines.append("  leaves some party worse off than on its own, which the nucleolus does not allow")
+    if short:
+        i = short[0]
+        verb, alone_verb = ("pays", "would pay") if cost else ("receives", "earns")
+        lines.append(f"  (in the column shown, {r.parties[i]} {verb} {human(r.least_core_payout[i])}{unit}"
+                     f" where it {alone_verb} {human(r.alone[i])}{unit} alone)")
+    return lines
+
+
 def solve_json(r: SolveReport) -> str:
     allocations, unavailable, worst = {}, {}, {}
     for a in r.allocations:
@@ -72,6 +106,9 @@ def solve_json(r: SolveReport) -> str:
         "least_core_value": exact_str(r.least_core_value),
         "certificate": [{"coalition": list(names), "weight": exact_str(w)} for names, w in r.certificate],
         "allocations": allocations,
+        "least_core_nearest_to": r.least_core_anchor,
+        "nucleolus_over": ("splits giving each party at least its stand-alone worth"
+                           if r.nucleolus_kind == "nucleolus" else "every split of worth(all) (the prenucleolus)"),
         "worst_excess": worst,
     }
     if unavailable:

@@ -41,6 +41,13 @@ class SolveReport:
     least_core_payout: list[Fraction]
     certificate: list[tuple[tuple[str, ...], Fraction]]
     allocations: list[Allocation] = field(default_factory=list)
+    # the split `least_core_payout` is nearest to: "payout" or "equal split"
+    least_core_anchor: str = "payout"
+    # "nucleolus" (over splits giving each party at least its stand-alone worth) or
+    # "prenucleolus" (over all splits of worth(all): no such split exists)
+    nucleolus_kind: str = "nucleolus"
+    # what each party earns (value) or would pay (cost) alone
+    alone: list[Fraction] = field(default_factory=list)
 
 
 def solve_model(model: Model) -> SolveReport:
@@ -54,13 +61,30 @@ def solve_model(model: Model) -> SolveReport:
     sign = -1 if model.kind == "cost" else 1
     lc = solutions.least_core(game)
     certificate = [(tuple(model.names_of(mask)), weight) for mask, weight in lc.certificate]
+    try:
+        own_payout, own_reason = payout(worths), None
+    except PayoutUnavailable as exc:
+        own_payout, own_reason = None, exc
+    # The least core is a set; show its split nearest to the agreement's own
+    # payout (least money moved), not whichever corner the solver lands on.
+    anchor = own_payout if own_payout is not None else [worths.worth_all / model.n] * model.n
+    nearest = solutions.nearest_stable_payout(game, [v * sign for v in anchor], lc.value)
+    if not nearest.feasible:
+        raise solutions.SolverError("no split meets the least-core value it was computed from")
     report = SolveReport(
         model.title, model.kind, model.unit, model.parties, worths.worth_all, lc.value,
-        [v * sign for v in lc.payout], certificate,
+        [v * sign for v in nearest.payout], certificate,
     )
+    report.least_core_anchor = "payout" if own_payout is not None else "equal split"
+    singles = [game.exact(1 << i) for i in range(model.n)]
+    report.alone = [v * sign for v in singles]
+    if sum(singles, Fraction(0)) > game.exact(game.full):
+        report.nucleolus_kind = "prenucleolus"
 
     def own() -> list[Fraction]:
-        return payout(worths)
+        if own_payout is None:
+            raise own_reason
+        return own_payout
 
     candidates = [
         ("payout", own),
