@@ -35,6 +35,9 @@ def solve_text(r: SolveReport) -> str:
     for names, weight in r.certificate:
         lines.append(f"    {human(weight):>16}  {_coalition(names)}")
     lines += _least_core_words(r)
+    if r.has_percentage:
+        lines.append("  smallest percentage any split meets as `stable within P%`: "
+                     + (_percent(r.least_percentage) if r.least_percentage is not None else "none"))
     usable = [a for a in r.allocations if a.payout is not None]
     short = dict(SHORT, nucleolus=r.nucleolus_kind)
     head = ["party"] + [short.get(a.rule, a.rule.replace("proportional to ", "prop. ")) for a in usable]
@@ -111,6 +114,8 @@ def solve_json(r: SolveReport) -> str:
                            if r.nucleolus_kind == "nucleolus" else "every split of worth(all) (the prenucleolus)"),
         "worst_excess": worst,
     }
+    if r.has_percentage:
+        doc["least_percentage"] = None if r.least_percentage is None else exact_str(r.least_percentage * 100)
     if unavailable:
         doc["unavailable"] = unavailable
     return json.dumps(doc, indent=2, ensure_ascii=False)
@@ -179,7 +184,8 @@ def repair_text(r, path: str) -> tuple[str, int]:
         lines.append(f"# {r.balancer} takes what is left of worth(all), so the payouts still add up to it"
                      " when a contingency removes a party or moves worth(all)")
     if r.not_covered:
-        lines.append("# not covered by this repair:")
+        lines.append("# not covered by this repair (it moves payouts to meet the requirements in the baseline,")
+        lines.append("# then checks every contingency with the lines above):")
         for note in r.not_covered:
             lines.append(f"#   {note}")
         code = 1 if any(" fails " in n for n in r.not_covered) else 3

@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+from . import ast
 from .model import Model
 from .worths import PayoutUnavailable, Worths, payout
 
@@ -48,6 +49,10 @@ class SolveReport:
     nucleolus_kind: str = "nucleolus"
     # what each party earns (value) or would pay (cost) alone
     alone: list[Fraction] = field(default_factory=list)
+    # for agreements with a `stable within P%` line: the smallest P any split meets
+    # (a fraction, 1/20 is 5%), or None when none does; absent otherwise
+    least_percentage: Fraction | None = None
+    has_percentage: bool = False
 
 
 def solve_model(model: Model) -> SolveReport:
@@ -80,6 +85,11 @@ def solve_model(model: Model) -> SolveReport:
     report.alone = [v * sign for v in singles]
     if sum(singles, Fraction(0)) > game.exact(game.full):
         report.nucleolus_kind = "prenucleolus"
+    if any(r.kind == "within" and isinstance(r.bound, ast.Percent) for r in model.requirements):
+        from .solutions.repair import least_percentage
+
+        report.has_percentage = True
+        report.least_percentage = least_percentage(game).percentage
 
     def own() -> list[Fraction]:
         if own_payout is None:

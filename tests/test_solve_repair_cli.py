@@ -296,3 +296,13 @@ def test_solve_says_when_the_prenucleolus_stands_in(tmp_path):
     out = run(tmp_path, text, "solve").stdout
     assert "no split can\n  give each party at least what it earns alone, so the prenucleolus" in out
     assert re.search(r"^  party .* prenucleolus ", out, re.M)  # the column is labelled so
+
+
+def test_solve_prints_the_smallest_reachable_percentage(tmp_path):
+    # pairs need x(S) >= 1 - P|1|; three pairs sum to 2 x(N) = 2 >= 3 - 3P: P >= 1/3 [derived]
+    text = MAJORITY + "require stable within 10%\n"
+    out = run(tmp_path, text, "solve").stdout
+    assert "smallest percentage any split meets as `stable within P%`: 33.33% (exactly 100/3%)" in out
+    doc = json.loads(run(tmp_path, text, "solve", "--format", "json").stdout)
+    assert doc["least_percentage"] == "100/3" and doc["least_core_value"] == "1/3"
+    assert "least_percentage" not in json.loads(run(tmp_path, MAJORITY, "solve", "--format", "json").stdout)
