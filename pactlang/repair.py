@@ -205,9 +205,9 @@ def payout_lines(model: Model, text: str | None, y: list[Fraction], current: lis
             continue
         lines.append(f"payout {name} = {payout_literal(y[i])}")
     if balancer is not None:
-        rule = model.payouts.rule
-        words = ast.rule_text(rule) if rule is not None and rule.kind in ("equal", "proportional") else "equal split"
-        lines.append(f"payout rest by {words}")
+        # one party is left for the rule: `equal split` gives it the whole rest (a
+        # proportional rule would fail on a weight of 0)
+        lines.append("payout rest by equal split")
     return lines
 
 
