@@ -306,3 +306,21 @@ def test_solve_prints_the_smallest_reachable_percentage(tmp_path):
     doc = json.loads(run(tmp_path, text, "solve", "--format", "json").stdout)
     assert doc["least_percentage"] == "100/3" and doc["least_core_value"] == "1/3"
     assert "least_percentage" not in json.loads(run(tmp_path, MAJORITY, "solve", "--format", "json").stdout)
+
+
+def test_repair_says_when_the_agreements_rounding_breaks_the_repaired_amounts(tmp_path):
+    import pytest
+
+    from pactlang.model import Payouts
+
+    if "rounding" not in Payouts.__dataclass_fields__:
+        pytest.skip("`round payouts` is not in this tree")
+    # every pair may pay at most 20/3 of a total of 10: the core is the single point 10/3 each;
+    # rounded to 0.01 one party pays 3.34 and its pairs 6.67 > 20/3 [derived]
+    text = ('agreement "thirds"\nshares cost\nparty a\nparty b\nparty c\n'
+            "worth S = if count(S) == 2 then 20 / 3 else 10\npayout a = 5\npayout rest by equal split\n"
+            "round payouts to 0.01 by largest remainder\nrequire stable\n")
+    out = run(tmp_path, text, "repair")
+    assert out.returncode == 1 and "Traceback" not in out.stderr
+    assert pasted_lines(out.stdout) == ["payout a = 10 / 3", "payout b = 10 / 3", "payout c = 10 / 3"]
+    assert "`stable` fails in the baseline once the amounts are rounded to 0.01" in out.stdout
