@@ -19,6 +19,22 @@ from typing import Callable, Sequence
 
 import numpy as np
 
+MAX_TABULATED = 22  # 2**22 worths: about 100 MB of tables; 2**24 already needs GiBs
+
+
+class TooLarge(Exception):
+    """The agreement has too many parties to tabulate every coalition's worth."""
+
+
+def require_tabulable(n: int, command: str) -> None:
+    """Refuse in words before a table of 2**n worths is built (memory grows
+    with it: 40 parties would need terabytes)."""
+    if n > MAX_TABULATED:
+        raise TooLarge(f"`{command}` needs the worth of every coalition, and {n} parties have "
+                       f"{2**n - 1:,} coalitions (the limit is {MAX_TABULATED} parties, "
+                       f"{2**MAX_TABULATED - 1:,} coalitions); `pactlang check` works "
+                       "without such a table")
+
 
 @dataclass(frozen=True, eq=False)
 class Game:
@@ -52,8 +68,9 @@ class Game:
     @classmethod
     def from_worths(cls, worths: Sequence[Fraction | int | str], names: Sequence[str] = ()) -> "Game":
         """A game from a full list of worths indexed by mask (`worths[0]` must be 0)."""
+        size = len(worths)
+        require_tabulable(max(size.bit_length() - 1, 0), "from_worths")
         exact_list = [Fraction(w) for w in worths]
-        size = len(exact_list)
         n = size.bit_length() - 1
         if size != 1 << n or n < 1:
             raise ValueError("need 2**n worths, indexed by coalition mask")

@@ -11,10 +11,11 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+from . import ast
 from .model import Model
 from .worths import PayoutUnavailable, Worths, payout
 
-MAX_SOLVED = 22
+from .game import MAX_TABULATED as MAX_SOLVED, TooLarge, require_tabulable  # noqa: F401 (re-exported)
 
 RULES = ("payout", "shapley", "nucleolus", "equal split", "separable costs remaining benefits")
 
@@ -41,10 +42,17 @@ class SolveReport:
     least_core_payout: list[Fraction]
     certificate: list[tuple[tuple[str, ...], Fraction]]
     allocations: list[Allocation] = field(default_factory=list)
-
-
-class TooLarge(Exception):
-    """The agreement has too many parties for the explicit solvers."""
+    # the split `least_core_payout` is nearest to: "payout" or "equal split"
+    least_core_anchor: str = "payout"
+    # "nucleolus" (over splits giving each party at least its stand-alone worth) or
+    # "prenucleolus" (over all splits of worth(all): no such split exists)
+    nucleolus_kind: str = "nucleolus"
+    # what each party earns (value) or would pay (cost) alone
+    alone: list[Fraction] = field(default_factory=list)
+    # for agreements with a `stable within P%` line: the smallest P any split meets
+    # (a fraction, 1/20 is 5%), or None when none does; absent otherwise
+    least_percentage: Fraction | None = None
+    has_percentage: bool = False
 
 
 def solve_model(model: Model) -> SolveReport:
@@ -52,20 +60,41 @@ def solve_model(model: Model) -> SolveReport:
     from . import solutions
     from .solutions.excess import ExcessTable
 
-    if model.n > MAX_SOLVED:
-        raise TooLarge(f"{model.n} parties is above the {MAX_SOLVED} the solvers tabulate")
+    require_tabulable(model.n, "solve")
     worths = Worths(model)
     game = worths.game()
     sign = -1 if model.kind == "cost" else 1
     lc = solutions.least_core(game)
     certificate = [(tuple(model.names_of(mask)), weight) for mask, weight in lc.certificate]
+    try:
+        own_payout, own_reason = payout(worths), None
+    except PayoutUnavailable as exc:
+        own_payout, own_reason = None, exc
+    # The least core is a set; show its split nearest to the agreement's own
+    # payout (least money moved), not whichever corner the solver lands on.
+    anchor = own_payout if own_payout is not None else [worths.worth_all / model.n] * model.n
+    nearest = solutions.nearest_stable_payout(game, [v * sign for v in anchor], lc.value)
+    if not nearest.feasible:
+        raise solutions.SolverError("no split meets the least-core value it was computed from")
     report = SolveReport(
         model.title, model.kind, model.unit, model.parties, worths.worth_all, lc.value,
-        [v * sign for v in lc.payout], certificate,
+        [v * sign for v in nearest.payout], certificate,
     )
+    report.least_core_anchor = "payout" if own_payout is not None else "equal split"
+    singles = [game.exact(1 << i) for i in range(model.n)]
+    report.alone = [v * sign for v in singles]
+    if sum(singles, Fraction(0)) > game.exact(game.full):
+        report.nucleolus_kind = "prenucleolus"
+    if any(r.kind == "within" and isinstance(r.bound, ast.Percent) for r in model.requirements):
+        from .solutions.repair import least_percentage
+
+        report.has_percentage = True
+        report.least_percentage = least_percentage(game).percentage
 
     def own() -> list[Fraction]:
-        return payout(worths)
+        if own_payout is None:
+            raise own_reason
+        return own_payout
 
     candidates = [
         ("payout", own),

@@ -112,3 +112,50 @@ def test_single_party_only_the_budget_binds():
     # with one party left (a contingency removed the other) only y(N) = v(N) remains
     r = nearest_stable_payout(game_of([0, 5]), [3], 0)
     assert r.feasible and r.payout == [5] and r.total_change == 2 and r.max_change == 2
+
+
+@SETTINGS
+@given(cases(), st.fractions(min_value=0, max_value=1, max_denominator=10), st.booleans())
+def test_several_requirements_are_met_together(case, pct, rational):
+    # every `require stable ...` line at once: the allowance of S is the smallest that applies
+    from pactlang.solutions.repair import Allowance
+
+    game, x, eps = case
+    allowances = [Allowance(eps), Allowance(pct, relative=True)]
+    if rational:
+        allowances.append(Allowance(F(0), singletons=True))
+
+    def bound(m):
+        limits = [eps, pct * abs(game.exact(m))] + ([F(0)] if rational and m & (m - 1) == 0 else [])
+        return min(limits)
+
+    r = nearest_stable_payout(game, x, allowances=allowances)
+    want = z3_nearest(game, x, bound)  # independent: Z3 over every coalition
+    if want is None:
+        assert not r.feasible and r.least_core.value > 0
+        target = allowance_game(game, allowances=allowances)
+        assert certificate_value(target, r.least_core.certificate) == r.least_core.value
+        return
+    assert r.feasible and meets(game, r.payout, bound)
+    assert (r.total_change, r.max_change) == want
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(cases())
+def test_least_percentage_is_reachable_and_proved_minimal(case):
+    from pactlang.solutions.repair import least_percentage
+
+    game, x, _ = case
+    got = least_percentage(game)
+    if got.percentage is None:
+        # no P works: a balanced collection of worthless coalitions still forces an excess
+        assert certificate_value(game, got.certificate) > 0
+        assert all(game.exact(m) == 0 for m, _ in got.certificate)
+        return
+    p = got.percentage
+    assert meets(game, got.payout, lambda m: p * abs(game.exact(m)))
+    if p > 0:  # the certificate proves nothing below p is reachable [derived: weighted average of excesses]
+        total = sum(w for _, w in got.certificate)
+        spread = sum(w * abs(game.exact(m)) for m, w in got.certificate)
+        assert certificate_value(game, got.certificate) * total == p * spread
+        assert z3_nearest(game, x, lambda m: (p - F(1, 1000)) * abs(game.exact(m))) is None

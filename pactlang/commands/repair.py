@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from enum import Enum
 
 import typer
@@ -16,64 +15,27 @@ class RepairFormat(str, Enum):
 def repair(
     file: str = typer.Argument(..., help="Agreement file (.deal)."),
     target: str = typer.Option(None, "--target", help="Epsilon to meet, e.g. 15 or 2% "
-                               "(default: the agreement's own `require stable within`)."),
+                               "(default: every `require stable ...` of the agreement)."),
     format: RepairFormat = typer.Option(RepairFormat.text, "--format", help="Output format."),
 ) -> None:
-    """Suggest the nearest payout (least money moved) that is stable within the target."""
+    """Suggest the nearest payout (least money moved) meeting the target, checked under every contingency."""
     from ..load import load_file
-    from ..numbers import exact_str, human
-    from ..render_text import CAUTION
-    from ..repair import NoTarget, default_target, parse_target, payout_literal, repair_model
+    from ..render_solve import repair_json, repair_text
+    from ..repair import NoTarget, repair_model
     from ..run import display_path
     from . import reported
 
     path = display_path(file)
     with reported(path):
-        model = load_file(file).model
+        loaded = load_file(file)
         try:
-            if target is None:
-                epsilon, relative, label = default_target(model)
-            else:
-                epsilon, relative = parse_target(target)
-                label = f"stable within {target.strip()}"
+            report = repair_model(loaded.model, target, loaded.text)
         except (NoTarget, ValueError) as exc:
             print(f"{path}: error: {exc}")
             raise typer.Exit(2) from None
-        report = repair_model(model, epsilon, relative, label)
-
-    if format is RepairFormat.json:
-        doc = {"agreement": report.agreement, "target": report.target, "feasible": report.feasible}
-        if report.feasible:
-            doc["payout"] = {p: exact_str(v) for p, v in zip(report.parties, report.payout)}
-            doc["total_change"] = exact_str(report.total_change)
-            doc["max_change"] = exact_str(report.max_change)
-        else:
-            doc["least_core_value"] = exact_str(report.least_core_value)
-            doc["certificate"] = [{"coalition": list(c), "weight": exact_str(w)} for c, w in report.certificate]
-        print(json.dumps(doc, indent=2, ensure_ascii=False))
-        raise typer.Exit(0 if report.feasible else 1)
-
-    unit = f" {report.unit}" if report.unit else ""
-    if not report.feasible:
-        print(f"{path}: no payout is `{report.target}`: the least-core value is "
-              f"{human(report.least_core_value)}{unit}, above the target.")
-        print("proof: a balanced collection (each party's weights add up to 1) that every split")
-        print("leaves, on weighted average, with at least that excess:")
-        for names, weight in report.certificate:
-            print(f"  {human(weight):>16}  {{{', '.join(names)}}}")
-        print(CAUTION)
-        raise typer.Exit(1)
-    if report.total_change == 0:
-        print(f"# {path}: the current payout already meets `{report.target}`")
-    else:
-        print(f"# {path}: nearest payout meeting `{report.target}`: moves {human(report.total_change)}{unit}"
-              f" in total, at most {human(report.max_change)}{unit} for one party")
-    for name, value in zip(report.parties, report.payout):
-        was = ""
-        if report.current is not None and report.current[report.parties.index(name)] != value:
-            was = f"  # was {human(report.current[report.parties.index(name)])}"
-        print(f"payout {name} = {payout_literal(value)}{was}")
-    print(f"# {CAUTION}")
+    out, code = repair_json(report) if format is RepairFormat.json else repair_text(report, path)
+    print(out)
+    raise typer.Exit(code)
 
 
 def register(app: typer.Typer) -> None:
