@@ -10,7 +10,8 @@ from pactlang.editor.names import keywords
 NAMES = {"bakery": "party", "dairy": "party", "florist": "party", "loads": "attribute", "ovens": "attribute",
          "fuel": "param"}
 PARTIES = [("bakery", "party"), ("dairy", "party"), ("florist", "party")]
-STATEMENTS = ["agreement", "contingency", "param", "party", "payout", "require", "shares", "worth"]
+STATEMENTS = ["agreement", "contingency", "param", "parties from", "party", "payout", "require", "round payouts to",
+              "shares", "worth"]
 RULES = ["equal split", "nucleolus", "proportional to", "separable costs remaining benefits", "shapley"]
 
 HEAD = 'agreement "Van"\nshares value in kEUR\nparty bakery: loads 2, ovens 1\nparam fuel = 3\n'

@@ -404,7 +404,8 @@ async def test_completion_depends_on_the_place_even_while_broken(client: Languag
     assert sorted(items) == ["loads"] and items["loads"].kind == types.CompletionItemKind.Field
     # at the start of a line: the statement words
     items = await completion_labels(client, uri, where(client, broken, "require individually"))
-    assert sorted(items) == ["agreement", "contingency", "param", "party", "payout", "require", "shares", "worth"]
+    assert sorted(items) == ["agreement", "contingency", "param", "parties from", "party", "payout", "require",
+                             "round payouts to", "shares", "worth"]
     # a formula: names, functions and expression words
     items = await completion_labels(client, uri, where(client, broken, "48 + fuel"))
     assert items["fuel"].detail == "param" and items["sum"].kind == types.CompletionItemKind.Function
