@@ -29,25 +29,19 @@ from .formula import EvaluationError
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario
 from .supremum import supremum
+from .verdict_rules import allowed_excess, rank, status_of
 from .worths import PayoutUnavailable
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
 DEFAULT_TIME_LIMIT = 60.0  # seconds per requirement when --time-limit is not given
 
 
-def allowed(req: ast.Require, worth: Fraction) -> Fraction:
-    """The excess a coalition may have under a coalition requirement."""
-    if req.kind == "within":
-        bound = req.bound
-        return bound.value * abs(worth) if isinstance(bound, ast.Percent) else bound.value
-    return Fraction(0)
+allowed = allowed_excess  # the name this module has always exported
 
 
 def _rank(p: Point) -> tuple:
-    """The order counterexamples are listed in, as the enumerating checker lists
-    them: excess descending, then coalition size, then coalition mask (so that
-    coalitions tied on excess come out the same whatever the solver found first)."""
-    return (-p.excess, bin(p.mask).count("1"), p.mask)
+    """The order counterexamples are listed in (`verdict_rules.rank`)."""
+    return rank(p.excess, p.mask)
 
 
 class RangedCheck:
@@ -168,15 +162,17 @@ class RangedCheck:
         which = "singletons" if req.kind == "rational" else "proper"
         scope = self.singleton_scope() if which == "singletons" else self.proper_scope()
         cex = []
+        budget_excess = Fraction(0)
         if req.kind in ("stable", "within"):
             budget = self.budget_point(deadline)
             if budget is not None:
                 cex.append(self._cex(budget, Fraction(0)))
+                budget_excess = budget.excess
         cond = self._violation(req)
-        for p in self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth)):
+        found = self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth))
+        for p in found:
             cex.append(self._cex(p, allowed(req, p.worth)))
         cex = cex[: self.options.top]
-        status = FAILS if cex else HOLDS
         # the verdict is settled; the supremum uses the time that is left and is
         # shared by the requirements over the same coalitions
         if which not in self._sup_cache:
@@ -185,6 +181,7 @@ class RangedCheck:
             except QueryUnknown:
                 self._sup_cache[which] = (None, None, ", worst excess not settled within the time limit")
         worst, worst_mask, note = self._sup_cache[which]
+        status = status_of(req, worst, len(found), budget_excess)
         return self._result(req, status, worst, self._method(note), cex=cex, worst_mask=worst_mask)
 
     def _violation(self, req):
