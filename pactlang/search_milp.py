@@ -16,10 +16,14 @@ least B + 1/(2q) (half a grid step: a true improvement clears it by half a
 step, B itself misses it by half a step, both far beyond the solver's
 tolerances) until the solver reports that none exists. Tolerances can only
 make the solver accept more, never report a feasible program infeasible, so
-this last answer is the proof. Top-K violators come from no-good cuts.
+this last answer is the proof. The top-K violators are collected a chunk of
+coalitions per solve (`Harvest`); the status comes from the exact worst
+excess (`verdict_rules.status_of`).
 
-Formula shapes outside this list (division by a value that depends on the
-coalition, a product of two coalition-dependent values) raise `Unsupported`.
+A value times an `if` (tiered prices) is distributed over the branches, one
+product per step. Formula shapes outside this list (division by a value that
+depends on the coalition, a product of two other coalition-dependent values)
+raise `Unsupported`.
 """
 
 from __future__ import annotations
@@ -275,6 +279,12 @@ class Linearizer:
                 cond = self.truth(self.node(c))
                 a, b = self.node(t), self.node(o)
                 return b.plus(self.product_with_binary(cond, a.plus(b, Fraction(-1))))
+            case ast.Binary(op="*", left=l, right=ast.If() as step) if depends_on_coalition(l) \
+                    and depends_on_coalition(step):
+                return self.node(_distribute(l, step, e.span))
+            case ast.Binary(op="*", left=ast.If() as step, right=r) if depends_on_coalition(r) \
+                    and depends_on_coalition(step):
+                return self.node(_distribute(r, step, e.span))
             case ast.Binary(op="and", left=l, right=r):
                 return self.both(self.truth(self.node(l)), self.truth(self.node(r)))
             case ast.Binary(op="or", left=l, right=r):
@@ -360,6 +370,14 @@ class Linearizer:
                 total = total.plus(xi, Fraction(-1))
         self.p.row(t.plus(total, Fraction(-1)), lo=Fraction(1 - size))
         return t
+
+
+def _distribute(value: ast.Expr, step: ast.If, span) -> ast.If:
+    """value * (if c then a else b) as if c then value * a else value * b: a
+    value times a step function (tiered prices) becomes one product per step,
+    each linear when the step's amount is a constant, and exact either way."""
+    return ast.If(step.cond, ast.Binary("*", value, step.then, span=span),
+                  ast.Binary("*", value, step.otherwise, span=span), span=span)
 
 
 def _line(e) -> str:

@@ -7,11 +7,15 @@ must agree on the status, the exact worst excess and the counterexample
 list: the same coalitions with the same excesses, in the same order, cut at
 the same `--top`. Z3 is reached with a contingency whose only range is a
 single value, which the ranged path decides like any range.
+
+About 1,500 random games run by default (a few minutes on a busy 2-core
+machine); `PACTLANG_SLOW_TESTS=1` adds 600 larger ones through Z3.
 """
 
 from __future__ import annotations
 
 import ast as pyast
+import os
 from fractions import Fraction
 from pathlib import Path
 
@@ -137,9 +141,9 @@ def _oracle_summary(spec, top):
     return [(w["status"], w["worst"], w["cex"]) for w in oracle(spec, top=top)]
 
 
-@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow],
+@settings(max_examples=1200, deadline=None, suppress_health_check=[HealthCheck.too_slow],
           derandomize=True)
-@given(specs(max_n=6, linear=True), st.sampled_from([1, 2, 3, 5]), st.sampled_from([None, 1, 2]))
+@given(specs(max_n=6, linear=True), st.sampled_from([1, 2, 3, 5]), st.sampled_from([None, 2]))
 def test_random_games_agree_on_enumeration_milp_and_oracle(spec, top, low_bits):
     text = spec.text()
     found = backends(text, top, low_bits, z3=False)
@@ -147,7 +151,7 @@ def test_random_games_agree_on_enumeration_milp_and_oracle(spec, top, low_bits):
     assert_agree(found, text)
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow],
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow],
           derandomize=True)
 @given(specs(max_n=5, linear=True), st.sampled_from([1, 3, 5]))
 def test_random_games_agree_on_z3_with_a_single_value_range(spec, top):
@@ -158,6 +162,7 @@ def test_random_games_agree_on_z3_with_a_single_value_range(spec, top):
 
 
 @pytest.mark.slow
+@pytest.mark.skipif(not os.environ.get("PACTLANG_SLOW_TESTS"), reason="set PACTLANG_SLOW_TESTS=1 for the long run")
 @settings(max_examples=600, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(specs(max_n=7, linear=True), st.sampled_from([1, 3, 5]))
 def test_more_random_games_agree_on_every_backend(spec, top):

@@ -268,6 +268,37 @@ def test_integer_program_lists_the_same_counterexamples_as_enumeration(top, low_
             [(c.coalition, c.excess) for c in b.counterexamples]
 
 
+# ---------------------------------------------------------------- tiered prices
+
+
+def test_tiered_price_is_decided_exactly_per_step():
+    # c(S) = T(S) * price(T(S)), price 0.31 from 900 units on, else 0.38; payout
+    # by units: x(S) = rho T(S), rho = c(N)/T(N). e(S) = T (rho - price(T)),
+    # largest over the reachable unit totals T (subset sums) [derived]
+    rng = random.Random(12)
+    units = [rng.randint(5, 60) for _ in range(40)]
+    lines = ['agreement "Buying group"', "shares cost"] + [f"party b{i}: units {u}" for i, u in enumerate(units)]
+    lines += ["worth S = sum(units in S) * (if sum(units in S) >= 900 then 0.31 else 0.38)",
+              "payout by proportional to units", "require stable", "require stable within 10"]
+    model, (core, within) = run("\n".join(lines) + "\n")
+    total = sum(units)
+
+    def price(t):
+        return F(31, 100) if t >= 900 else F(38, 100)
+
+    rho = price(total)
+    reach = 1
+    for u in units:
+        reach |= reach << u
+    worst = max(t * (rho - price(t)) for t in range(1, total) if reach >> t & 1)
+    assert core.method == within.method == "milp"
+    assert core.worst_excess == within.worst_excess == worst
+    assert core.status == (FAILS if worst > 0 else HOLDS) and within.status == (FAILS if worst > 10 else HOLDS)
+    for c in core.counterexamples:
+        t = sum(units[model.index(p)] for p in c.coalition)
+        assert c.excess == t * (rho - price(t))
+
+
 # ---------------------------------------------------------------- limits
 
 
