@@ -580,13 +580,17 @@ def search(checker, reqs, time_limit: float | None) -> dict[int, object]:
         try:
             if is_relative(req) or worst > bound_ratio(req):
                 harvest.run([worst_mask])
+            found = harvest.found()
         except Limit as exc:
-            if not harvest.found():
+            found = harvest.found()
+            if not found and not is_relative(req):
+                found = [worst_mask]  # the worst excess is above the bound: its coalition violates
+            if not found:
                 out[id(req)] = checker._result(req, UNKNOWN, worst, method, reason=str(exc), worst_mask=worst_mask)
                 continue
             # the verdict stands on the violators in hand; only the list may miss some
             note = f" (counterexample list may be incomplete: {exc})"
-        out[id(req)] = checker.coalition_result(req, worst, worst_mask, harvest.found(), method, note)
+        out[id(req)] = checker.coalition_result(req, worst, worst_mask, found, method, note)
     return out
 
 
