@@ -24,7 +24,7 @@ def _root() -> None:
     """Check multi-party sharing agreements (.deal files) for stability, exactly."""
 
 
-COMMANDS = ("check", "solve", "repair", "fmt", "lint", "serve")
+COMMANDS = ("check", "solve", "repair", "report", "diff", "fmt", "lint", "serve")
 
 for _name in COMMANDS:
     try:
