@@ -26,6 +26,7 @@ from .formula import EvaluationError
 from .model import Model
 from .sweep import _conv
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
+from .verdict_rules import allowed_excess, bound_ratio, counterexample_order, is_relative, rank, status_of
 from .worths import PayoutUnavailable, Worths, excess, paid_by, payout
 
 MAX_ENUMERATED = 24
@@ -47,21 +48,6 @@ class CheckOptions:
     progress: object | None = field(default=None, compare=False)  # a progress.Progress, or None
 
 
-def _allowed(req: ast.Require, worth: Fraction) -> Fraction:
-    """The excess a coalition may have under a `stable` requirement
-    (0 for the core and for individual rationality)."""
-    if req.kind in ("stable", "rational"):
-        return Fraction(0)
-    bound = req.bound
-    if isinstance(bound, ast.Percent):
-        return bound.value * abs(worth)
-    return bound.value
-
-
-def _size(mask: int) -> int:
-    return bin(mask).count("1")
-
-
 @dataclass
 class _Tracker:
     """Worst excess and the top-K violators of one coalition requirement."""
@@ -71,18 +57,18 @@ class _Tracker:
     worst: tuple[Fraction, int] | None = None  # exact (excess, mask)
     worst_pool: list[int] = field(default_factory=list)  # masks still to evaluate exactly
     worst_lb: float = -np.inf
-    violators: list[tuple[Fraction, int, int]] = field(default_factory=list)  # (-excess, size, mask)
+    violators: list[tuple[Fraction, int, int]] = field(default_factory=list)  # `rank`s: (-excess, size, mask)
     viol_pool: list[int] = field(default_factory=list)
     certain_lbs: list[float] = field(default_factory=list)  # min-heap of the top-K lower bounds
     overflow: bool = False
 
     @property
     def relative(self) -> bool:
-        return isinstance(self.req.bound, ast.Percent)
+        return is_relative(self.req)
 
     @property
     def ratio(self) -> Fraction:
-        return self.req.bound.value if self.req.kind == "within" else Fraction(0)
+        return bound_ratio(self.req)
 
     def kth_lb(self) -> float:
         return self.certain_lbs[0] if len(self.certain_lbs) >= self.top else -np.inf
@@ -110,7 +96,7 @@ class _Tracker:
             idx = idx[vals >= kth]
         for i in idx:
             mask = int(masks[i])
-            self.violators.append((-Fraction(int(k[i]), den), _size(mask), mask))
+            self.violators.append(rank(Fraction(int(k[i]), den), mask))
         self.violators = heapq.nsmallest(self.top, self.violators)
 
     def _relative_violation(self, chunk) -> np.ndarray:
@@ -160,8 +146,8 @@ class _Tracker:
             e, w = exact_excess(mask)
             if self.worst is None or e > self.worst[0]:
                 self.worst = (e, mask)
-            if e > _allowed(self.req, w):
-                self.violators.append((-e, _size(mask), mask))
+            if e > allowed_excess(self.req, w):
+                self.violators.append(rank(e, mask))
         self.violators = heapq.nsmallest(self.top, self.violators)
         self.worst_pool, self.viol_pool = [], []
 
@@ -226,7 +212,7 @@ class Checker:
     def counterexample(self, req, mask: int) -> Counterexample:
         e, w = self.exact_excess(mask)
         return Counterexample(tuple(self.model.names_of(mask)), w, paid_by(self.payouts, mask), e,
-                              _allowed(req, w), dict(self.parameters))
+                              allowed_excess(req, w), dict(self.parameters))
 
     def _budget_counterexample(self) -> Counterexample:
         m = self.model
@@ -235,17 +221,14 @@ class Checker:
 
     # ---------------------------------------------------------- requirements
     def _rational(self, req) -> Result:
-        examples, worst, worst_mask = [], None, None
+        worst, worst_mask, violators = None, None, []
         for i in range(self.model.n):
-            e, _ = self.exact_excess(1 << i)
+            e, w = self.exact_excess(1 << i)
             if worst is None or e > worst:
                 worst, worst_mask = e, 1 << i
-            if e > 0:
-                examples.append((-e, i))
-        examples.sort()
-        cex = [self.counterexample(req, 1 << i) for _, i in examples[: self.options.top]]
-        status = FAILS if cex else HOLDS
-        return self._result(req, status, worst, "singletons", counterexamples=cex, worst_mask=worst_mask)
+            if e > allowed_excess(req, w):
+                violators.append(1 << i)
+        return self.coalition_result(req, worst, worst_mask, violators, "singletons")
 
     def _budget(self, req) -> Result:
         ok = self.budget_excess == 0
@@ -307,22 +290,31 @@ class Checker:
         return unsupported_reason(self.model) is None
 
     def _verdict(self, t: _Tracker) -> Result:
-        req = t.req
         worst_excess, worst_mask = (None, None) if t.worst is None else t.worst
+        return self.coalition_result(t.req, worst_excess, worst_mask, [mask for _, _, mask in t.violators],
+                                     "enumeration")
+
+    def coalition_result(self, req, worst_excess, worst_mask, violators, method, note=None) -> Result:
+        """The result of a coalition requirement from a complete search: the
+        exact worst excess (attained by `worst_mask`) and the masks of the
+        worst violating coalitions (at least the first `top` in `rank` order,
+        or all of them). Everything printed is re-derived from the model here;
+        the status comes from `status_of`."""
         if worst_mask is not None:
             # the printed worst excess is re-derived from the model, exactly
             worst_excess = self.exact_excess(worst_mask)[0]
-        cex = []
-        if self.budget_excess != 0:
-            cex.append(self._budget_counterexample())
-        for neg, _, mask in sorted(t.violators):
+        found = []
+        for mask in violators:
             c = self.counterexample(req, mask)
-            if c.excess != -neg or not c.excess > c.allowed:
+            if not c.excess > c.allowed:
                 raise AssertionError(f"internal: counterexample {c.coalition} did not re-check exactly")
-            cex.append(c)
-        cex = cex[: self.options.top]
-        status = FAILS if cex else HOLDS
-        return self._result(req, status, worst_excess, "enumeration", counterexamples=cex, worst_mask=worst_mask)
+            found.append(c)
+        cex = [self._budget_counterexample()] if req.kind != "rational" and self.budget_excess != 0 else []
+        cex += found
+        cex.sort(key=counterexample_order(self.model.mask_of, self.model.full))
+        status = status_of(req, worst_excess, len(found), self.budget_excess)
+        return self._result(req, status, worst_excess, method if note is None else method + note,
+                            counterexamples=cex[: self.options.top], worst_mask=worst_mask)
 
 
 def check_model(model: Model, options: CheckOptions = CheckOptions()) -> list[Result]:

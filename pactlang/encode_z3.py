@@ -33,6 +33,7 @@ import z3
 from . import ast
 from .formula import is_aggregate
 from .model import Model
+from .verdict_rules import excess_sign
 
 MAX_SHAPLEY_PARTIES = 10  # the Shapley value under ranges needs all 2**n worths as terms
 
@@ -529,7 +530,7 @@ class Encoding:
         """excess * den for the coalition given by `members` with worth `worth`."""
         paid = self.add(*(self.ite(members(i), p, Fraction(0)) for i, p in enumerate(self.pay_num)))
         diff = self.add(self.mul(worth, self.den), self.neg(paid))
-        return diff if self.model.kind == "value" else self.neg(diff)
+        return diff if excess_sign(self.model.kind) > 0 else self.neg(diff)
 
     def coalition_excess(self) -> tuple[Num, Num]:
         """(excess * den, worth) of the coalition given by the membership Booleans.

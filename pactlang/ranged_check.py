@@ -29,6 +29,7 @@ from .formula import EvaluationError
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario
 from .supremum import seeded, supremum
+from .verdict_rules import allowed_excess, rank, status_of
 from .worths import PayoutUnavailable
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
@@ -37,19 +38,12 @@ MAX_RANKING_QUERIES = 200  # queries spent ordering the counterexamples of one r
 MAX_SEED_BITS = 22  # candidates enumerated only while corners * coalitions stays within 2**22
 
 
-def allowed(req: ast.Require, worth: Fraction) -> Fraction:
-    """The excess a coalition may have under a coalition requirement."""
-    if req.kind == "within":
-        bound = req.bound
-        return bound.value * abs(worth) if isinstance(bound, ast.Percent) else bound.value
-    return Fraction(0)
+allowed = allowed_excess  # the name this module has always exported
 
 
 def _rank(p: Point) -> tuple:
-    """The order counterexamples are listed in, as the enumerating checker lists
-    them: excess descending, then coalition size, then coalition mask (so that
-    coalitions tied on excess come out the same whatever the solver found first)."""
-    return (-p.excess, bin(p.mask).count("1"), p.mask)
+    """The order counterexamples are listed in (`verdict_rules.rank`)."""
+    return rank(p.excess, p.mask)
 
 
 class RangedCheck:
@@ -227,10 +221,12 @@ class RangedCheck:
         which = "singletons" if req.kind == "rational" else "proper"
         scope = self.singleton_scope() if which == "singletons" else self.proper_scope()
         cex = []
+        budget_excess = Fraction(0)
         if req.kind in ("stable", "within"):
             budget = self.budget_point(deadline)
             if budget is not None:
                 cex.append(self._cex(budget, Fraction(0)))
+                budget_excess = budget.excess
         cond = self._violation(req)
         in_scope = self._seeds_in(which, seeds)
         if which not in self._sup_cache and in_scope:
@@ -254,7 +250,6 @@ class RangedCheck:
         for p in violators:
             cex.append(self._cex(p, allowed(req, p.worth)))
         cex = cex[: self.options.top]
-        status = FAILS if cex else HOLDS
         # the verdict is settled; the supremum uses the time that is left and is
         # shared by the requirements over the same coalitions
         if which not in self._sup_cache:
@@ -263,6 +258,7 @@ class RangedCheck:
             except QueryUnknown:
                 self._sup_cache[which] = (None, None, ", worst excess not settled within the time limit")
         worst, worst_mask, note = self._sup_cache[which]
+        status = status_of(req, worst, len(violators), budget_excess)
         return self._result(req, status, worst, self._method(note), cex=cex, worst_mask=worst_mask)
 
     def _seeds_in(self, which: str, own: list[Point]) -> list[Point]:

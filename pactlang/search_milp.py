@@ -16,10 +16,14 @@ least B + 1/(2q) (half a grid step: a true improvement clears it by half a
 step, B itself misses it by half a step, both far beyond the solver's
 tolerances) until the solver reports that none exists. Tolerances can only
 make the solver accept more, never report a feasible program infeasible, so
-this last answer is the proof. Top-K violators come from no-good cuts.
+this last answer is the proof. The top-K violators are collected a chunk of
+coalitions per solve (`Harvest`); the status comes from the exact worst
+excess (`verdict_rules.status_of`).
 
-Formula shapes outside this list (division by a value that depends on the
-coalition, a product of two coalition-dependent values) raise `Unsupported`.
+A value times an `if` (tiered prices) is distributed over the branches, one
+product per step. Formula shapes outside this list (division by a value that
+depends on the coalition, a product of two other coalition-dependent values)
+raise `Unsupported`.
 """
 
 from __future__ import annotations
@@ -38,7 +42,8 @@ import numpy as np
 from . import ast
 from .formula import Env, EvaluationError, depends_on_coalition, evaluate, is_aggregate
 from .model import Model
-from .results import FAILS, HOLDS, UNKNOWN
+from .results import UNKNOWN
+from .verdict_rules import allowed_excess, bound_ratio, excess_sign, first_grid_point_above, is_relative
 
 MAX_PROOF_ROUNDS = 60
 DEFAULT_TIME_LIMIT = 300.0  # seconds for one search when --time-limit is not given
@@ -274,6 +279,12 @@ class Linearizer:
                 cond = self.truth(self.node(c))
                 a, b = self.node(t), self.node(o)
                 return b.plus(self.product_with_binary(cond, a.plus(b, Fraction(-1))))
+            case ast.Binary(op="*", left=l, right=ast.If() as step) if depends_on_coalition(l) \
+                    and depends_on_coalition(step):
+                return self.node(_distribute(l, step, e.span))
+            case ast.Binary(op="*", left=ast.If() as step, right=r) if depends_on_coalition(r) \
+                    and depends_on_coalition(step):
+                return self.node(_distribute(r, step, e.span))
             case ast.Binary(op="and", left=l, right=r):
                 return self.both(self.truth(self.node(l)), self.truth(self.node(r)))
             case ast.Binary(op="or", left=l, right=r):
@@ -361,6 +372,14 @@ class Linearizer:
         return t
 
 
+def _distribute(value: ast.Expr, step: ast.If, span) -> ast.If:
+    """value * (if c then a else b) as if c then value * a else value * b: a
+    value times a step function (tiered prices) becomes one product per step,
+    each linear when the step's amount is a constant, and exact either way."""
+    return ast.If(step.cond, ast.Binary("*", value, step.then, span=span),
+                  ast.Binary("*", value, step.otherwise, span=span), span=span)
+
+
 def _line(e) -> str:
     return str(e.span.line) if getattr(e, "span", None) else "?"
 
@@ -380,7 +399,7 @@ class Search:
         self.worth = lin.worth(worths)
         paid = Lin({i: p for i, p in enumerate(payouts) if p}, Fraction(0))
         diff = self.worth.plus(paid, Fraction(-1))
-        self.excess = diff if model.kind == "value" else diff.times(Fraction(-1))
+        self.excess = diff.times(Fraction(excess_sign(model.kind)))
         self.grid = self.program.grid(self.excess)
         lo, hi = self.program.bounds(self.excess)
         scale = self.grid * (max(abs(lo), abs(hi)) + sum(abs(c) for c in self.excess.coef.values()))
@@ -390,6 +409,9 @@ class Search:
         n = model.n
         sizes = Lin({i: Fraction(1) for i in range(n)})
         self.program.row(sizes, lo=Fraction(1), hi=Fraction(n - 1))  # non-empty and not everyone
+        self.sizes = sizes
+        # free unless a tie row uses it: 1 lets a coalition tie the cut-off excess if it is no larger
+        self.tie = self.program.var(0, 1, integer=True, binary=True)
         self.solves = 0
 
     # ------------------------------------------------------------ solver
@@ -465,23 +487,23 @@ class Search:
                 cuts.append(self.no_good(mask, self.model.n))
         raise Limit("the solver's proposals kept failing the exact re-check")
 
-    def violators(self, rows, violates, top: int) -> tuple[list[int], bool]:
-        """Up to `top` coalitions satisfying `rows` that violate exactly, best
-        excess first, and whether the list is complete (no other violator)."""
-        found, cuts = [], []
-        misses = 0
-        while len(found) < top:
-            mask = self.solve([*rows, *cuts])
-            if mask is None:
-                return found, True
-            cuts.append(self.no_good(mask, self.model.n))
-            if violates(mask):
-                found.append(mask)
-            else:
-                misses += 1
-                if misses > MAX_PROOF_ROUNDS:
-                    raise Limit("the solver's proposals kept failing the exact re-check")
-        return found, False
+    def prefix_cut(self, high: int, low_bits: int) -> tuple:
+        """A row ruling out every coalition whose members among the parties
+        from `low_bits` on are those of `high` (one swept chunk)."""
+        coef = {low_bits + j: Fraction(-1) if high >> j & 1 else Fraction(1) for j in range(self.model.n - low_bits)}
+        return (coef, Fraction(1 - high.bit_count()), None)
+
+    def ranked_after(self, excess: Fraction, size: int, with_ties: bool) -> list[tuple]:
+        """Rows keeping the coalitions that may rank before one of this excess
+        and size: a larger excess, or (`with_ties`) the same excess and no
+        more members."""
+        step = Fraction(1, self.grid)
+        if not with_ties:
+            return [self.at_least(self.excess, excess + step)]
+        n = self.model.n
+        # tie = 0: excess >= excess + step; tie = 1: excess >= excess and size <= size
+        return [self.at_least(self.excess.plus(self.tie, step), excess + step),
+                (dict(self.sizes.plus(self.tie, Fraction(n - size)).coef), None, Fraction(n))]
 
 
 @contextmanager
@@ -530,11 +552,12 @@ class _NoConstants:
     constants: dict = {}
 
 
+HARVEST_BITS = 16  # each integer-program answer is widened to the 2**16 coalitions sharing its other members
+
+
 def search(checker, reqs, time_limit: float | None) -> dict[int, object]:
     """Results of the coalition requirements `reqs` for a `Checker` that has
     its exact worths and payouts, found by integer programming."""
-    from .check import _allowed  # the checker's own rule for allowed excess
-
     model = checker.model
     limit = DEFAULT_TIME_LIMIT if time_limit is None else time_limit
     start = time.monotonic()
@@ -552,30 +575,118 @@ def search(checker, reqs, time_limit: float | None) -> dict[int, object]:
     out = {}
     for req in reqs:
         s.deadline = time.monotonic() + limit
-        cex = [checker._budget_counterexample()] if checker.budget_excess != 0 else []
+        harvest = Harvest(s, checker, req)
+        note = None
         try:
-            violates = lambda mask, req=req: (lambda e, w: e > _allowed(req, w))(*checker.exact_excess(mask))  # noqa: E731
-            if isinstance(req.bound, ast.Percent):
-                # e > P |w|  <=>  e - P w > 0 and e + P w > 0, each on its own grid
-                pct = req.bound.value
-                rows = [s.at_least(s.excess.plus(s.worth, -pct), Fraction(1, s.program.grid(s.excess.plus(s.worth, -pct)))),
-                        s.at_least(s.excess.plus(s.worth, pct), Fraction(1, s.program.grid(s.excess.plus(s.worth, pct))))]
-                masks, _ = s.violators(rows, violates, checker.options.top)
-            else:
-                bound = _allowed(req, Fraction(0))
-                masks = []
-                if worst > bound:
-                    rows = [s.at_least(s.excess, bound + Fraction(1, s.grid))]
-                    masks, _ = s.violators(rows, violates, checker.options.top)
+            if is_relative(req) or worst > bound_ratio(req):
+                harvest.run([worst_mask])
+            found = harvest.found()
         except Limit as exc:
-            out[id(req)] = checker._result(req, UNKNOWN, worst, method, reason=str(exc), worst_mask=worst_mask)
-            continue
-        examples = sorted((checker.counterexample(req, m) for m in masks),
-                          key=lambda c: (-c.excess, len(c.coalition)))
-        for c in examples:
-            if not c.excess > c.allowed:
-                raise AssertionError(f"internal: counterexample {c.coalition} did not re-check exactly")
-        cex = (cex + examples)[: checker.options.top]
-        out[id(req)] = checker._result(req, FAILS if cex else HOLDS, worst, method, counterexamples=cex,
-                                       worst_mask=worst_mask)
+            found = harvest.found()
+            if not found and not is_relative(req):
+                found = [worst_mask]  # the worst excess is above the bound: its coalition violates
+            if not found:
+                out[id(req)] = checker._result(req, UNKNOWN, worst, method, reason=str(exc), worst_mask=worst_mask)
+                continue
+            # the verdict stands on the violators in hand; only the list may miss some
+            note = f" (counterexample list may be incomplete: {exc})"
+        out[id(req)] = checker.coalition_result(req, worst, worst_mask, found, method, note)
     return out
+
+
+class _Feed:
+    """An endless iterator yielding whatever `next` was last set to: feeds
+    `excess_chunks` the chunk prefixes one at a time, as they are found."""
+
+    def __init__(self):
+        self.next = 0
+
+    def __iter__(self):
+        return self
+
+    def __next__(self) -> int:
+        return self.next
+
+
+class Harvest:
+    """The worst violators of one requirement, collected many at a time.
+
+    Every coalition the integer program proposes is widened to its chunk:
+    all coalitions that agree with it on the parties from `bits` on, swept
+    exactly by the checker's vectorised sweep (`_Tracker`). The next query
+    asks for a violator outside every swept chunk (one prefix row per chunk)
+    that could still enter the list: once `top` violators are in hand, one
+    with a larger excess than the last of them, or (up to MAX_ENUMERATED
+    parties) the same excess and no more members, so that ties at the
+    cut-off come out in `rank` order. Above that, tied coalitions can be so
+    many that the list takes the tied ones from the chunks it swept. An
+    infeasible query proves the list complete."""
+
+    def __init__(self, s: Search, checker, req):
+        from .check import MAX_ENUMERATED, _Tracker
+        from .sweep import excess_chunks
+
+        self.s = s
+        self.checker = checker
+        self.req = req
+        n = checker.model.n
+        low_bits = checker.options.low_bits
+        self.bits = min(n, low_bits if low_bits is not None else HARVEST_BITS)
+        self.with_ties = n <= MAX_ENUMERATED
+        self.tracker = _Tracker(req, checker.options.top)
+        self.feed = _Feed()
+        self.chunks = excess_chunks(checker.worths, checker.payouts, self.bits, highs=self.feed)
+        self.swept: set[int] = set()
+
+    def found(self) -> list[int]:
+        return [mask for _, _, mask in self.tracker.violators]
+
+    def violation_rows(self) -> list[tuple]:
+        """Rows satisfied exactly by the coalitions that violate the requirement."""
+        s, req = self.s, self.req
+        if is_relative(req):
+            # e > P |w|  <=>  e - P w > 0 and e + P w > 0, each on its own grid
+            rows = []
+            for k in (-req.bound.value, req.bound.value):
+                lin = s.excess.plus(s.worth, k)
+                rows.append(s.at_least(lin, Fraction(1, s.program.grid(lin))))
+            return rows
+        return [s.at_least(s.excess, first_grid_point_above(allowed_excess(req, Fraction(0)), s.grid))]
+
+    def run(self, seeds: list[int]) -> None:
+        s, tracker, top = self.s, self.tracker, self.checker.options.top
+        n, full = self.checker.model.n, self.checker.model.full
+        base_rows = self.violation_rows()
+        cuts: list[tuple] = []
+        pending = [m >> self.bits for m in seeds]
+        while len(self.swept) < 1 << (n - self.bits):
+            if pending:
+                high = pending.pop()
+            else:
+                rows = list(base_rows)
+                if len(tracker.violators) >= top:
+                    neg, size, _ = tracker.violators[-1]
+                    rows += s.ranked_after(-neg, size, self.with_ties)
+                mask = s.solve([*rows, *cuts])
+                if mask is None:
+                    return
+                high = mask >> self.bits
+                if high in self.swept:
+                    raise Limit("the solver proposed a coalition it had already ruled out")
+            if high in self.swept:
+                continue
+            if time.monotonic() > s.deadline:
+                raise Limit("the time limit was reached")
+            self.feed.next = high
+            chunk = next(self.chunks)
+            masks = chunk.masks
+            valid = (masks != 0) & (masks != full)
+            if chunk.e_num is not None:
+                tracker.exact_chunk(masks, valid, chunk)
+            else:
+                tracker.inexact_chunk(masks, valid, chunk)
+            tracker.settle(lambda mask: self.checker.exact_excess(mask))
+            if tracker.overflow:
+                raise Limit("too many coalitions could not be told apart in floating point")
+            self.swept.add(high)
+            cuts.append(s.prefix_cut(high, self.bits))

@@ -26,6 +26,7 @@ import numpy as np
 
 from . import ast
 from .formula import Env, EvaluationError, depends_on_coalition, evaluate, is_aggregate
+from .verdict_rules import excess_sign
 from .worths import Worths
 
 U = 2.0**-53  # unit roundoff of float64
@@ -127,6 +128,9 @@ class Evaluator:
         return 1 << (self.n - self.L)
 
     def masks(self, high: int) -> np.ndarray:
+        if self.n > 62:  # past int64 the masks are Python integers
+            base = high << self.L
+            return np.array([base | low for low in range(self.tables.size)], dtype=object)
         return (np.int64(high) << np.int64(self.L)) | self.tables.idx
 
     def worth_chunk(self, high: int) -> Vec:
@@ -335,9 +339,11 @@ def _recover(val: np.ndarray, err: np.ndarray, q: int | None) -> np.ndarray | No
     return np.rint(scaled).astype(np.int64)
 
 
-def excess_chunks(worths: Worths, payouts: list[Fraction], low_bits: int | None = None) -> Iterator[ExcessChunk]:
+def excess_chunks(worths: Worths, payouts: list[Fraction], low_bits: int | None = None,
+                  highs=None) -> Iterator[ExcessChunk]:
     """The excess e(S) of every coalition (including the empty and the full
-    one: callers skip them), chunk by chunk."""
+    one: callers skip them), chunk by chunk; only the chunks whose high
+    prefixes `highs` yields, in its order, when it is given."""
     evaluator = Evaluator(worths, low_bits)
     model = worths.model
     L = evaluator.L
@@ -345,8 +351,8 @@ def excess_chunks(worths: Worths, payouts: list[Fraction], low_bits: int | None 
     pay_table = evaluator.tables._doubling([c[0] for c in conv[:L]], np.add, 0.0)
     pay_err = sum(c[1] for c in conv[:L]) + L * U * sum(abs(c[0]) for c in conv[:L])
     q_pay = lcm(*(x.denominator for x in payouts))
-    sign = 1.0 if model.kind == "value" else -1.0
-    for high in range(evaluator.chunk_count):
+    sign = float(excess_sign(model.kind))
+    for high in range(evaluator.chunk_count) if highs is None else highs:
         w = evaluator.worth_chunk(high)
         high_paid = sum((payouts[L + i] for i in range(model.n - L) if high >> i & 1), Fraction(0))
         hf, he = _conv(high_paid)

@@ -17,6 +17,7 @@ from .model import Model
 from .ranged_check import RangedCheck
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario, corners
+from .verdict_rules import counterexample_order
 
 
 def weight_ranges(scenario: Scenario) -> list[Ranged]:
@@ -97,8 +98,7 @@ def _merge(results: tuple[Result, ...], top: int, model: Model) -> Result:
         for c in (c for r in failing for c in r.counterexamples):
             if c.coalition not in best or c.excess > best[c.coalition].excess:
                 best[c.coalition] = c
-        cex = sorted(best.values(), key=lambda c: (len(c.coalition) != model.n, -c.excess,
-                                                   len(c.coalition), model.mask_of(c.coalition)))
+        cex = sorted(best.values(), key=counterexample_order(model.mask_of, model.full))
         status, reason = FAILS, None
     elif unknown:
         cex, status, reason = [], UNKNOWN, unknown[0].reason

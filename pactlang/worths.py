@@ -16,6 +16,7 @@ from functools import cached_property
 from .formula import Env, EvaluationError, evaluate
 from .game import Game
 from .model import Model
+from .verdict_rules import excess_of
 
 
 class PayoutUnavailable(Exception):
@@ -158,7 +159,7 @@ def _solution_rule(kind: str, worths: Worths) -> list[Fraction]:
 
 def excess(model: Model, worth: Fraction, paid: Fraction) -> Fraction:
     """e(S): what S gains by leaving (value: v - x; cost: x - c)."""
-    return worth - paid if model.kind == "value" else paid - worth
+    return excess_of(model.kind, worth, paid)
 
 
 def paid_by(payouts: list[Fraction], mask: int) -> Fraction:

@@ -140,13 +140,26 @@ def decimals(lo=-20, hi=20, places=2):
 
 
 @st.composite
-def expressions(draw, n: int, attrs: dict[str, list[Fraction]], params: dict[str, Fraction], depth: int = 0):
-    """(text, closure over the member list) for a random formula."""
+def expressions(draw, n: int, attrs: dict[str, list[Fraction]], params: dict[str, Fraction], depth: int = 0,
+                linear: bool = False):
+    """(text, closure over the member list) for a random formula; with
+    `linear`, only shapes the integer program expresses exactly (products
+    with a constant or a membership, division by a constant)."""
     leaf_only = depth >= 3
     choice = draw(st.sampled_from(
         ["num", "param", "sum", "max", "min", "count", "member"] if leaf_only else
         ["num", "param", "sum", "max", "min", "count", "member", "add", "sub", "mul", "divc", "divcount",
          "if", "minmax", "neg"]))
+    if linear and choice in ("mul", "divcount"):
+        choice = "scale" if choice == "mul" else "membermul"
+    if choice == "scale":
+        t, f = draw(expressions(n, attrs, params, depth + 1, linear))
+        c = draw(decimals(-5, 5, 2))
+        return f"({dec(c)}) * ({t})", (lambda m: c * f(m))
+    if choice == "membermul":
+        i = draw(st.integers(0, n - 1))
+        t, f = draw(expressions(n, attrs, params, depth + 1, linear))
+        return f"({NAMES[i]} in S) * ({t})", (lambda m, i=i: f(m) if i in m else Fraction(0))
     if choice == "num":
         v = draw(decimals(-10, 10, 2))
         return (f"({dec(v)})" if v < 0 else dec(v)), (lambda m, v=v: v)
@@ -167,26 +180,26 @@ def expressions(draw, n: int, attrs: dict[str, list[Fraction]], params: dict[str
         i = draw(st.integers(0, n - 1))
         return f"{NAMES[i]} in S", (lambda m, i=i: Fraction(1 if i in m else 0))
     if choice == "neg":
-        t, f = draw(expressions(n, attrs, params, depth + 1))
+        t, f = draw(expressions(n, attrs, params, depth + 1, linear))
         return f"-({t})", (lambda m: -f(m))
     if choice in ("add", "sub", "mul"):
-        t1, f1 = draw(expressions(n, attrs, params, depth + 1))
-        t2, f2 = draw(expressions(n, attrs, params, depth + 1))
+        t1, f1 = draw(expressions(n, attrs, params, depth + 1, linear))
+        t2, f2 = draw(expressions(n, attrs, params, depth + 1, linear))
         op = {"add": "+", "sub": "-", "mul": "*"}[choice]
         fn = {"add": lambda a, b: a + b, "sub": lambda a, b: a - b, "mul": lambda a, b: a * b}[choice]
         return f"({t1}) {op} ({t2})", (lambda m: fn(f1(m), f2(m)))
     if choice == "divc":
-        t, f = draw(expressions(n, attrs, params, depth + 1))
+        t, f = draw(expressions(n, attrs, params, depth + 1, linear))
         c = draw(st.sampled_from([Fraction(2), Fraction(3), Fraction(7), Fraction(1, 4), Fraction(3, 2)]))
         return f"({t}) / {dec(c)}", (lambda m: f(m) / c)
     if choice == "divcount":
-        t, f = draw(expressions(n, attrs, params, depth + 1))
+        t, f = draw(expressions(n, attrs, params, depth + 1, linear))
         return f"({t}) / count(S)", (lambda m: f(m) / len(m))
     if choice == "if":
-        t1, f1 = draw(expressions(n, attrs, params, depth + 1))
-        t2, f2 = draw(expressions(n, attrs, params, depth + 1))
-        t3, f3 = draw(expressions(n, attrs, params, depth + 1))
-        t4, f4 = draw(expressions(n, attrs, params, depth + 1))
+        t1, f1 = draw(expressions(n, attrs, params, depth + 1, linear))
+        t2, f2 = draw(expressions(n, attrs, params, depth + 1, linear))
+        t3, f3 = draw(expressions(n, attrs, params, depth + 1, linear))
+        t4, f4 = draw(expressions(n, attrs, params, depth + 1, linear))
         op = draw(st.sampled_from(["<", "<=", ">", ">=", "==", "!="]))
         cmp = {"<": lambda a, b: a < b, "<=": lambda a, b: a <= b, ">": lambda a, b: a > b,
                ">=": lambda a, b: a >= b, "==": lambda a, b: a == b, "!=": lambda a, b: a != b}[op]
@@ -200,16 +213,16 @@ def expressions(draw, n: int, attrs: dict[str, list[Fraction]], params: dict[str
         else:
             cond_t, cond = f"({t1}) {op} ({t2})", (lambda m: cmp(f1(m), f2(m)))
         return f"if {cond_t} then {t3} else {t4}", (lambda m: f3(m) if cond(m) else f4(m))
-    t1, f1 = draw(expressions(n, attrs, params, depth + 1))
-    t2, f2 = draw(expressions(n, attrs, params, depth + 1))
+    t1, f1 = draw(expressions(n, attrs, params, depth + 1, linear))
+    t2, f2 = draw(expressions(n, attrs, params, depth + 1, linear))
     which = draw(st.sampled_from(["max", "min"]))
     fn = max if which == "max" else min
     return f"{which}({t1}, {t2})", (lambda m: fn(f1(m), f2(m)))
 
 
 @st.composite
-def specs(draw, min_n: int = 2, max_n: int = 8, kinds=("cost", "value")):
-    """A random agreement with its independent meaning."""
+def specs(draw, min_n: int = 2, max_n: int = 8, kinds=("cost", "value"), linear: bool = False):
+    """A random agreement with its independent meaning (`linear`: see `expressions`)."""
     n = draw(st.integers(min_n, max_n))
     kind = draw(st.sampled_from(kinds))
     parties = NAMES[:n]
@@ -224,7 +237,7 @@ def specs(draw, min_n: int = 2, max_n: int = 8, kinds=("cost", "value")):
     table: dict[int, Fraction] = {}
     full = (1 << n) - 1
     if mode == "formula":
-        formula_text, formula = draw(expressions(n, attrs, params))
+        formula_text, formula = draw(expressions(n, attrs, params, linear=linear))
         for mask in draw(st.lists(st.integers(1, full), max_size=3, unique=True)):
             table[mask] = draw(decimals(-30, 60, 2))
     elif mode == "table":

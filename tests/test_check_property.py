@@ -85,3 +85,29 @@ def test_game_floats_and_numerators_given_to_solvers_are_faithful(spec):
         if game.scaled is not None:
             nums, den = game.scaled
             assert Fraction(int(nums[mask]), den) == exact
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.fractions(), st.integers(1, 10**6))
+def test_first_grid_point_above_is_the_least_multiple_strictly_above(value, grid):
+    from pactlang.verdict_rules import first_grid_point_above
+
+    point = first_grid_point_above(value, grid)
+    assert (point * grid).denominator == 1
+    assert value < point and not value < point - Fraction(1, grid)
+
+
+def test_status_comes_from_the_worst_excess_and_disagreeing_searches_are_internal_errors():
+    import pytest
+
+    from pactlang.verdict_rules import status_of
+
+    req = load_text('agreement "a"\nshares value\nparty a\nparty b\nworth S = 1\npayout by equal split\n'
+                    "require stable within 0.333333\nrequire stable within 5%\n").model.requirements
+    absolute, relative = req
+    assert status_of(absolute, Fraction(1, 3), 1) == "fails"
+    assert status_of(absolute, Fraction(1, 4), 0) == "holds"
+    assert status_of(absolute, Fraction(1, 4), 0, budget_excess=Fraction(1)) == "fails"
+    with pytest.raises(AssertionError, match="disagree"):
+        status_of(absolute, Fraction(1, 3), 0)  # a worst excess above the bound but no violator found
+    assert status_of(relative, Fraction(1, 3), 0) == "holds"  # a relative bound: the violators decide

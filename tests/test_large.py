@@ -215,7 +215,88 @@ def test_integer_program_agrees_with_enumeration(seed):
     for a, b in zip(by_enum, by_milp):
         assert b.method == "milp"
         assert (a.status, a.worst_excess) == (b.status, b.worst_excess), text
-        assert [c.excess for c in a.counterexamples] == [c.excess for c in b.counterexamples], text
+        assert [(c.coalition, c.excess) for c in a.counterexamples] == \
+            [(c.coalition, c.excess) for c in b.counterexamples], text
+
+
+# ---------------------------------------------------------------- verdicts at the edge, long lists
+
+
+def test_a_bound_just_below_the_worst_excess_fails_on_the_integer_program():
+    # 90 members with 1, 2 or 3 votes (180 in all), quota 120, payout by votes:
+    # a winning S has excess 1 - w(S)/180, worst 1 - 120/180 = 1/3 exactly
+    # [derived]. A bound just below 1/3 fails, one just above holds.
+    votes = [1 + i % 3 for i in range(90)]
+    lines = ['agreement "Board"', "shares value"] + [f"party m{i}: votes {v}" for i, v in enumerate(votes)]
+    lines += ["worth S = if sum(votes in S) >= 120 then 1 else 0", "payout by proportional to votes",
+              "require stable within 0.333333", "require stable within 0.3333333333",
+              "require stable within 0.3333334", "require stable within 5%"]
+    model, results = run("\n".join(lines) + "\n")
+    below, closer, above, relative = results
+    for r in results:
+        assert r.method == "milp" and r.worst_excess == F(1, 3)
+    assert (below.status, closer.status, above.status) == (FAILS, FAILS, HOLDS)
+    assert above.counterexamples == ()
+    for r in (below, closer):
+        assert len(r.counterexamples) == 5
+        for c in r.counterexamples:
+            assert c.excess == F(1, 3) and c.excess > c.allowed
+            assert sum(votes[model.index(p)] for p in c.coalition) == 120
+    # 5% of a winning coalition's worth is 1/20: every lightest winning coalition fails it
+    assert relative.status == FAILS and [c.excess for c in relative.counterexamples] == [F(1, 3)] * 5
+
+
+def tied_votes(n: int) -> str:
+    # equal votes: every coalition of a size ties, so the order of ties decides the list
+    lines = ['agreement "Club"', "shares value"] + [f"party c{i:02d}: votes {1 + i % 2}" for i in range(n)]
+    lines += [f"worth S = if sum(votes in S) >= {n} then 60 else 0", "payout by proportional to votes",
+              "require stable within 2", "require stable within 10%", "require stable"]
+    return "\n".join(lines) + "\n"
+
+
+@pytest.mark.parametrize("top, low_bits", [(7, None), (20, 13), (300, None)])
+def test_integer_program_lists_the_same_counterexamples_as_enumeration(top, low_bits):
+    # ties on the last place of the list included: they come out in one order
+    model = load_text(tied_votes(18)).model
+    by_enum = Checker(model, CheckOptions(top=top, search="enumeration")).run()
+    by_milp = Checker(model, CheckOptions(top=top, search="milp", low_bits=low_bits)).run()
+    for a, b in zip(by_enum, by_milp):
+        assert b.method == "milp" and a.status == b.status == FAILS
+        assert a.worst_excess == b.worst_excess
+        assert len(a.counterexamples) == top
+        assert [(c.coalition, c.excess) for c in a.counterexamples] == \
+            [(c.coalition, c.excess) for c in b.counterexamples]
+
+
+# ---------------------------------------------------------------- tiered prices
+
+
+def test_tiered_price_is_decided_exactly_per_step():
+    # c(S) = T(S) * price(T(S)), price 0.31 from 900 units on, else 0.38; payout
+    # by units: x(S) = rho T(S), rho = c(N)/T(N). e(S) = T (rho - price(T)),
+    # largest over the reachable unit totals T (subset sums) [derived]
+    rng = random.Random(12)
+    units = [rng.randint(5, 60) for _ in range(40)]
+    lines = ['agreement "Buying group"', "shares cost"] + [f"party b{i}: units {u}" for i, u in enumerate(units)]
+    lines += ["worth S = sum(units in S) * (if sum(units in S) >= 900 then 0.31 else 0.38)",
+              "payout by proportional to units", "require stable", "require stable within 10"]
+    model, (core, within) = run("\n".join(lines) + "\n")
+    total = sum(units)
+
+    def price(t):
+        return F(31, 100) if t >= 900 else F(38, 100)
+
+    rho = price(total)
+    reach = 1
+    for u in units:
+        reach |= reach << u
+    worst = max(t * (rho - price(t)) for t in range(1, total) if reach >> t & 1)
+    assert core.method == within.method == "milp"
+    assert core.worst_excess == within.worst_excess == worst
+    assert core.status == (FAILS if worst > 0 else HOLDS) and within.status == (FAILS if worst > 10 else HOLDS)
+    for c in core.counterexamples:
+        t = sum(units[model.index(p)] for p in c.coalition)
+        assert c.excess == t * (rho - price(t))
 
 
 # ---------------------------------------------------------------- limits
