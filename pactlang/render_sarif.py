@@ -166,6 +166,16 @@ def _diagnostic_result(d: Diagnostic, uri: dict, rule_index: int) -> dict:
     }
 
 
+def _internal_notification(d: Diagnostic, uri: dict) -> dict:
+    """A tool execution notification for an internal error on one file."""
+    return {
+        "level": "error",
+        "descriptor": {"id": d.code},
+        "message": {"text": f"{d.message}\nhelp: {d.help}" if d.help else d.message},
+        "locations": [{"physicalLocation": {"artifactLocation": uri}}],
+    }
+
+
 def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, base: str | None = None) -> dict:
     """The SARIF log of a run, as a JSON-ready dict. `models` maps a report's
     path to its model (for related locations); `base` is the directory the
@@ -184,10 +194,15 @@ def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, 
 
     for code in list(VERDICT_RULES) + list(RULES):  # the whole catalogue, used or not
         rule_index(code)
-    results = []
+    from .run import is_internal
+
+    results, notifications = [], []
     for f in run.files:
         uri = artifact_uri(f.path, base)
         for d in f.diagnostics:
+            if is_internal(d):  # a fault of the tool, not a finding in the file
+                notifications.append(_internal_notification(d, uri))
+                continue
             results.append(_diagnostic_result(d, uri, rule_index(d.code)))
         for r in f.results:
             if r.status not in (FAILS, UNKNOWN):
@@ -219,6 +234,10 @@ def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, 
             }},
             "originalUriBaseIds": {SRCROOT: {"uri": Path(base or os.getcwd()).resolve().as_uri() + "/"}},
             "columnKind": "unicodeCodePoints",
+            "invocations": [{
+                "executionSuccessful": not notifications,
+                "toolExecutionNotifications": notifications,
+            }],
             "results": results,
         }],
     }

@@ -49,11 +49,18 @@ def coalition_text(members, parties=()) -> str:
     return "{" + ", ".join(members[:4]) + f", ... {len(members) - 4} more}}"
 
 
-def render_file(f: FileReport, colour: bool = False) -> list[str]:
-    lines = []
-    for d in f.diagnostics:
-        text = d.render(f.path)
-        lines.append(_paint(text, d.severity, colour) if colour else text)
+def file_diagnostics(f: FileReport, colour: bool = False) -> list[str]:
+    """`FILE:LINE:COL: severity: message` lines of one file."""
+    return [_paint(d.render(f.path), d.severity, colour) if colour else d.render(f.path) for d in f.diagnostics]
+
+
+def render_diagnostics(run: RunReport, colour: bool = False) -> list[str]:
+    """Every file's diagnostics, for standard error."""
+    return [line for f in run.files for line in file_diagnostics(f, colour)]
+
+
+def render_file(f: FileReport, colour: bool = False, diagnostics: bool = True) -> list[str]:
+    lines = file_diagnostics(f, colour) if diagnostics else []
     if f.agreement is None:
         return lines
     unit = f" {f.unit}" if f.unit else ""
@@ -90,11 +97,12 @@ def summary(run: RunReport) -> str:
     return text
 
 
-def render_text(run: RunReport, colour: bool = False) -> str:
-    """The whole text report, ending with the one-line summary and the caution."""
+def render_text(run: RunReport, colour: bool = False, diagnostics: bool = True) -> str:
+    """The whole text report, ending with the one-line summary and the caution
+    (`diagnostics=False`: without them, when they are printed apart)."""
     lines = []
     for f in run.files:
-        lines.extend(render_file(f, colour))
+        lines.extend(render_file(f, colour, diagnostics))
     lines.append(summary(run))
     lines.append(CAUTION)
     return "\n".join(lines)

@@ -54,4 +54,4 @@ def test_broken_input_exits_2_without_traceback(tmp_path):
     out = subprocess.run([sys.executable, "-m", "pactlang", "check", str(path)], capture_output=True, text=True)
     assert out.returncode == EXIT_INPUT
     assert "Traceback" not in out.stdout + out.stderr
-    assert ":13:" in out.stdout
+    assert ":13:" in out.stderr  # diagnostics go to stderr, the report to stdout

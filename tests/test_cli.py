@@ -44,7 +44,7 @@ def test_exit_codes(files):
     assert broken.returncode == 2
     assert "Traceback" not in broken.stderr + broken.stdout
     # `party b:` with nothing after the colon: the line ends too early
-    assert "broken.deal:4:9: error: unexpected end of line" in broken.stdout
+    assert "broken.deal:4:9: error: unexpected end of line" in broken.stderr  # diagnostics on stderr
     assert run("check", str(files / "missing.deal")).returncode == 2
 
 

@@ -241,7 +241,7 @@ def test_directories_stand_for_their_deal_files(tmp_path: Path) -> None:
     assert result.returncode == 1 and f"would reformat {Path('sub/one.deal')}" in result.stderr
 
 
-def test_internal_error_is_reported_with_exit_2(tmp_path: Path, monkeypatch) -> None:
+def test_internal_error_is_reported_with_exit_4(tmp_path: Path, monkeypatch) -> None:
     import io
 
     from pactlang.commands.fmt import FmtOptions, run_fmt
@@ -252,7 +252,7 @@ def test_internal_error_is_reported_with_exit_2(tmp_path: Path, monkeypatch) -> 
     monkeypatch.setattr(fmt, "_with_comment", lambda code, comment, column=None: code)
     monkeypatch.chdir(tmp_path)
     out, err = io.StringIO(), io.StringIO()
-    assert run_fmt(["a.deal"], FmtOptions(), out, err) == 2
+    assert run_fmt(["a.deal"], FmtOptions(), out, err) == 4  # the tool failed, not the input
     assert "a.deal: error: internal formatter error, file left unchanged" in err.getvalue()
     assert target.read_text() == source
 
