@@ -53,6 +53,9 @@ def _rule_descriptor(code: str) -> dict:
         level = "warning" if code == "requirement-unknown" else "error"
     elif code in RULES:
         short, help_text, level = RULES[code].summary, RULES[code].help, "warning"
+    elif code == "lint-stopped":
+        short, help_text, level = ("the drafting checks were cut short by the time limit",
+                                   "allow more time with `--time-limit`, or run `pactlang lint`", "warning")
     else:  # errors of reading and resolving an agreement
         short = f"the agreement cannot be read: {code.replace('-', ' ')}"
         help_text, level = "fix the line named; nothing is checked until the file reads cleanly", "error"

@@ -13,7 +13,7 @@ import sys
 import traceback
 
 from .check import CheckOptions, check_model
-from .diagnostics import AgreementError, Diagnostic, error
+from .diagnostics import AgreementError, Diagnostic, error, warning
 from .load import FILE_START, agreement_paths, label_of, load_file
 from .results import FileReport, RunReport
 
@@ -83,18 +83,31 @@ def check_file(path: str, options: CheckOptions = CheckOptions()) -> tuple[FileR
     model = loaded.model
     report.agreement, report.unit, report.kind = model.title, model.unit, model.kind
     report.parties = model.parties
-    if deadline is None or not deadline.passed:  # lint is advice: skipped once the time is up
-        try:
-            report.diagnostics.extend(lint_diagnostics(loaded))
-        except Exception as exc:  # noqa: BLE001
-            report.diagnostics.append(internal_diagnostic(exc, "linting the agreement"))
     try:
         report.results.extend(check_model(model, options))
     except AgreementError as exc:
         report.diagnostics.extend(exc.diagnostics)
     except Exception as exc:  # noqa: BLE001
         report.diagnostics.append(internal_diagnostic(exc, "checking the agreement"))
+    # Lint is advice: it runs after the verdicts, in the time left, so it never costs a verdict.
+    report.diagnostics[:0] = _lint_within(loaded, deadline)
     return report, model
+
+
+def _lint_within(loaded, deadline) -> list[Diagnostic]:
+    """Lint findings, or a note that lint was cut short by the command's deadline."""
+    from .deadline import REASON, TimeLimitReached, active
+
+    stopped = warning("lint-stopped", f"drafting checks (lint) were skipped: {REASON}", FILE_START)
+    if deadline is not None and deadline.passed:
+        return [stopped]
+    try:
+        with active(deadline):
+            return lint_diagnostics(loaded)
+    except TimeLimitReached:
+        return [stopped]
+    except Exception as exc:  # noqa: BLE001
+        return [internal_diagnostic(exc, "linting the agreement")]
 
 
 def check_files(paths: list[str], options: CheckOptions = CheckOptions(),

@@ -37,6 +37,17 @@ def _plural(n: int, word: str) -> str:
     return f"{n} file{'s' if n != 1 else ''} {word}"
 
 
+def _emit(out, text: str) -> None:
+    """Agreement text to `out` as UTF-8 (as it was read), whatever the locale's encoding."""
+    buffer = getattr(out, "buffer", None)
+    if buffer is None:
+        out.write(text)
+        return
+    out.flush()
+    buffer.write(text.encode("utf-8"))
+    buffer.flush()
+
+
 def _format_one(path: str, label: str, options: FmtOptions):
     from ..diagnostics import AgreementError
     from ..format import Outcome, format_file, format_source
@@ -85,16 +96,16 @@ def run_fmt(paths: list[str], options: FmtOptions, out=None, err=None) -> int:
                              f"{outcome.internal}", "31", colour), file=err)
                 print(f"  help: {REPORT_HELP}", file=err)
             if path == STDIN and outcome.original is not None and options.write:
-                out.write(outcome.original)  # a filter must not swallow its input
+                _emit(out, outcome.original)  # a filter must not swallow its input
             continue
         if outcome.status == "unchanged":
             unchanged += 1
         else:
             changed += 1
         if options.diff and outcome.status == "changed":
-            out.write(outcome.diff(label))
+            _emit(out, outcome.diff(label))
         if path == STDIN and options.write:
-            out.write(outcome.formatted)  # a filter: the result goes to standard output
+            _emit(out, outcome.formatted)  # a filter: the result goes to standard output
         elif outcome.status == "changed" and not options.diff:
             verb = "would reformat" if options.check else "reformatted"
             print(_paint(f"{verb} {label}", "1", colour), file=err)
