@@ -28,12 +28,18 @@ class LazyCommands(TyperGroup):
     def list_commands(self, ctx) -> list[str]:
         return [name for name in COMMANDS if self.get_command(ctx, name) is not None]
 
+    def parse_args(self, ctx, args):
+        _plain_coercion(self.get_params(ctx))
+        return super().parse_args(ctx, args)
+
     def get_command(self, ctx, name: str):
         if name not in COMMANDS:
             return None
         cache = self.__dict__.setdefault("_loaded", {})
         if name not in cache:
-            cache[name] = _load_command(name)
+            cache[name] = command = _load_command(name)
+            if command is not None:
+                _plain_coercion(command.get_params(ctx))
         return cache[name]
 
 
@@ -49,6 +55,26 @@ def _load_command(name: str):
     command = typer.main.get_command(single)
     command.name = name
     return command
+
+
+def _plain_coercion(params) -> None:
+    """Convert the options of plain types (str, int, float, an Enum, a list of
+    str) in a few lines of Python instead of typer's pydantic adapters, whose
+    import costs more than a small check: start-up matters for a command run
+    on every save. Any other type, or a typer without this hook, keeps typer's own."""
+    try:
+        from typer._coercion import RuntimeParam
+    except ImportError:  # pragma: no cover - another typer: its own coercion is used
+        return
+    from .plain_params import plain_runtime_param
+
+    for param in params:
+        descriptor = getattr(param, "type_descriptor", None)
+        if descriptor is None or getattr(param, "_runtime_param", "absent") is not None:
+            continue
+        runtime = plain_runtime_param(RuntimeParam, descriptor)
+        if runtime is not None:
+            param._runtime_param = runtime
 
 
 app = typer.Typer(
@@ -82,7 +108,7 @@ def report_internal_error(exc: BaseException) -> None:
     import os
     import traceback
 
-    from .run import DEBUG_ENV, REPORT_HELP, internal_reason
+    from .failures import DEBUG_ENV, REPORT_HELP, internal_reason
 
     if os.environ.get(DEBUG_ENV):
         traceback.print_exception(type(exc), exc, exc.__traceback__, file=sys.stderr)

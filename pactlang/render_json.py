@@ -36,7 +36,7 @@ def result_json(r: Result) -> dict:
 def internal_error_json(f) -> dict:
     """`{"internal_error": "MESSAGE"}` when the tool failed on the file (the run
     then exits 4; the file's diagnostics hold the same message), else `{}`."""
-    from .run import is_internal
+    from .failures import is_internal
 
     failures = [d.message for d in f.diagnostics if is_internal(d)]
     return {"internal_error": "; ".join(failures)} if failures else {}

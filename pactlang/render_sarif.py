@@ -197,7 +197,7 @@ def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, 
 
     for code in list(VERDICT_RULES) + list(RULES):  # the whole catalogue, used or not
         rule_index(code)
-    from .run import is_internal
+    from .failures import is_internal
 
     results, notifications = [], []
     for f in run.files:

@@ -8,53 +8,18 @@ exits 4 (`exit_code`), never 1.
 
 from __future__ import annotations
 
-import os
-import sys
-import traceback
-
 from .check import CheckOptions, check_model
-from .diagnostics import AgreementError, Diagnostic, error, warning
+from .diagnostics import AgreementError, Diagnostic, warning
+from .failures import (DEBUG_ENV, EXIT_INTERNAL, INTERNAL, REPORT_HELP, exit_code,  # noqa: F401 - re-exported
+                       internal_diagnostic, internal_failures, internal_reason, is_internal)
 from .load import FILE_START, agreement_paths, label_of, load_file
 from .results import FileReport, RunReport
-
-INTERNAL = "internal-error"
-EXIT_INTERNAL = 4
-DEBUG_ENV = "PACTLANG_DEBUG"
-REPORT_HELP = ("this is a fault in pactlang, not in the agreement: please report it with the file and this "
-               f"message (set {DEBUG_ENV}=1 to print the traceback)")
 
 
 def display_path(path: str) -> str:
     """A path relative to the working directory when it lies below it; `<stdin>` for `-`."""
     return label_of(path)
 
-
-def internal_reason(exc: BaseException) -> str:
-    """A short reason for an unexpected exception: its type and first line."""
-    text = str(exc).strip().splitlines()[0] if str(exc).strip() else ""
-    return f"{type(exc).__name__}: {text}" if text else type(exc).__name__
-
-
-def internal_diagnostic(exc: BaseException, stage: str) -> Diagnostic:
-    """The diagnostic that stands for a crash while `stage` ran on one file;
-    prints the traceback on stderr when PACTLANG_DEBUG is set."""
-    if os.environ.get(DEBUG_ENV):
-        traceback.print_exception(type(exc), exc, exc.__traceback__, file=sys.stderr)
-    return error(INTERNAL, f"internal error while {stage}: {internal_reason(exc)}", FILE_START, help=REPORT_HELP)
-
-
-def is_internal(d: Diagnostic) -> bool:
-    return d.code == INTERNAL
-
-
-def internal_failures(run: RunReport) -> list[tuple[str, Diagnostic]]:
-    """(path, diagnostic) of every internal error in the run."""
-    return [(f.path, d) for f in run.files for d in f.diagnostics if is_internal(d)]
-
-
-def exit_code(run: RunReport) -> int:
-    """4 when the tool failed on any file, else the run's own code (2, 1, 3 or 0)."""
-    return EXIT_INTERNAL if internal_failures(run) else run.exit_code
 
 
 def lint_diagnostics(loaded) -> list:

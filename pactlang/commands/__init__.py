@@ -42,7 +42,7 @@ def note(text: str) -> None:
 
 def internal_error(label: str, exc: BaseException, stage: str) -> None:
     """Print an internal error for one file on stderr (the traceback only with PACTLANG_DEBUG)."""
-    from ..run import internal_diagnostic
+    from ..failures import internal_diagnostic
 
     note(internal_diagnostic(exc, stage).render(label))
 
@@ -93,7 +93,7 @@ def each_file(paths: list[str], run_one, json_output: bool) -> int:
     follow each other; JSON answers are gathered into `{"files": [{"path": ...,
     ...answer}]}` so the output stays one valid document."""
     from ..load import agreement_paths
-    from ..run import display_path
+    from ..load import label_of as display_path
 
     notes: list[str] = []
     files = agreement_paths(paths, notes)

@@ -35,7 +35,8 @@ def check(
     from ..deadline import Deadline
     from ..load import agreement_paths
     from ..progress import Progress
-    from ..run import check_files, exit_code
+    from ..failures import exit_code
+    from ..run import check_files
 
     deadline = Deadline(time_limit)  # one deadline for the whole command
     notes: list[str] = []

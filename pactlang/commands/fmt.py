@@ -67,7 +67,8 @@ def run_fmt(paths: list[str], options: FmtOptions, out=None, err=None) -> int:
     from ..format import expand_paths
     from ..render_text import use_colour
     from ..results import EXIT_FAILS, EXIT_INPUT, EXIT_OK
-    from ..run import EXIT_INTERNAL, REPORT_HELP, display_path
+    from ..failures import EXIT_INTERNAL, REPORT_HELP
+    from ..load import label_of as display_path
 
     out = out or sys.stdout
     err = err or sys.stderr
@@ -83,7 +84,7 @@ def run_fmt(paths: list[str], options: FmtOptions, out=None, err=None) -> int:
             outcome = _format_one(path, label, options)
         except Exception as exc:  # noqa: BLE001 - one file's crash is reported; the others go on
             from ..format import Outcome
-            from ..run import internal_reason
+            from ..failures import internal_reason
 
             outcome = Outcome(path, "error", internal=f"the formatter crashed: {internal_reason(exc)}")
         if outcome.status == "error":

@@ -56,7 +56,8 @@ def lint_paths(paths: list[str], ignore: frozenset[str] = frozenset(),
     """Lint every file; the report and the models by display path."""
     from ..format import expand_paths
     from ..results import FileReport, RunReport
-    from ..run import display_path, internal_diagnostic
+    from ..failures import internal_diagnostic
+    from ..load import label_of as display_path
 
     run, models = RunReport(), {}
     for path in expand_paths(paths, notes):
@@ -101,7 +102,7 @@ def render_lint_json(run: RunReport) -> str:
 
 def lint_exit_code(run: RunReport, strict: bool) -> int:
     from ..results import EXIT_FAILS, EXIT_INPUT, EXIT_OK
-    from ..run import EXIT_INTERNAL, internal_failures
+    from ..failures import EXIT_INTERNAL, internal_failures
 
     if internal_failures(run):
         return EXIT_INTERNAL
