@@ -10,6 +10,7 @@ each command (`python -X importtime`), cumulative.
 
     python bench/bench_startup.py            # 5 runs each
     python bench/bench_startup.py 9 --imports
+    PACTLANG_TREE=/other/checkout python bench/bench_startup.py   # another tree, to compare
 """
 
 from __future__ import annotations
@@ -61,7 +62,7 @@ def slowest_imports(argv: list[str], env: dict, count: int = 10) -> list[str]:
 def main() -> None:
     args = [a for a in sys.argv[1:] if not a.startswith("--")]
     repeat = int(args[0]) if args else 5
-    env = dict(os.environ, PYTHONPATH=str(ROOT), NO_COLOR="1")
+    env = dict(os.environ, PYTHONPATH=os.environ.get("PACTLANG_TREE", str(ROOT)), NO_COLOR="1")
     with tempfile.TemporaryDirectory() as tmp:
         path = Path(tmp) / "four.deal"
         path.write_text(FOUR)
