@@ -1,13 +1,18 @@
 """Seconds for ranged contingencies and large agreements -> printed figures.
 
-Run: python bench/bench_contingencies.py [--quick]
+Run: python bench/bench_contingencies.py [--quick] [--ranges]
 
 1. a 6-party agreement with 3 ranged quantities (Z3; goal under 2 s);
 2. a 100-party weighted-voting agreement with a proportional payout
    (integer programming; goal under 10 s);
 3. a 300-party sum-with-threshold agreement (integer programming; goal under 30 s);
 4. the crossover: the smallest number of parties from which the integer
-   program decides a requirement faster than enumeration.
+   program decides a requirement faster than enumeration;
+5. ranged checks that grow with the parties: 3 ranged quantities at 10 and
+   16 parties (goals under 2 s and 10 s), 1 ranged quantity at 20 parties
+   (goal under 3 s), in CPU seconds, each beside a plain baseline run in the
+   same process: a float numpy sweep of every coalition's excess at the
+   corners of the ranges (no proof, no exact numbers), and their ratio.
 
 The agreements are invented and generated with a fixed seed.
 """
@@ -18,6 +23,7 @@ import random
 import statistics
 import sys
 import time
+from itertools import product
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
@@ -78,6 +84,62 @@ def sum_threshold(n: int, seed: int = 11) -> str:
     return "\n".join(lines) + "\n"
 
 
+def ranged_towns(n: int, ranges: int, seed: int = 5) -> str:
+    """A cost agreement of n towns with up to 3 ranged quantities: a price, a
+    demand read by the formula and the proportional payout, a distance."""
+    rng = random.Random(seed)
+    lines = ['agreement "Water main"', "shares cost in kEUR", ""]
+    lines += [f"party town_{i}: demand {rng.randint(3, 25)}, distance {rng.randint(2, 14)}" for i in range(n)]
+    lines += ["", "param pipe_price = 3", "",
+              "worth S = 40 + pipe_price * max(distance in S) * 5 + 2 * sum(demand in S)"
+              " + (if count(S) >= 4 then 25 else 0)",
+              "", "payout town_0 = 15%", "payout rest by proportional to demand", ""]
+    parts = ["pipe_price in 2.5 .. 4", "demand of town_2 in 16 .. 26", "distance of town_3 in 10 .. 14"][:ranges]
+    lines += ['contingency "prices and growth" { ' + "; ".join(parts) + " }", "",
+              "require stable within 20", "require stable within 10%", "require individually rational",
+              "require balanced budget"]
+    return "\n".join(lines) + "\n"
+
+
+def plain_corner_sweep(model, ranges: int) -> float:
+    """The plain baseline: every coalition's excess in floats at every corner
+    of the ranges, as a vectorised numpy sweep would compute it (no proof).
+    Returns the largest excess over proper coalitions."""
+    import numpy as np
+
+    n = model.n
+    masks = np.arange(1, (1 << n) - 1, dtype=np.int64)
+    bits = ((masks[:, None] >> np.arange(n)) & 1).astype(bool)
+    demand0 = np.array([float(v) for v in model.attribute_vector("demand")])
+    dist0 = np.array([float(v) for v in model.attribute_vector("distance")])
+    best = -np.inf
+    ends = [(2.5, 4.0), (16.0, 26.0), (10.0, 14.0)][:ranges]
+    for corner in product(*ends):
+        price, demand, dist = 3.0, demand0.copy(), dist0.copy()
+        if ranges >= 1:
+            price = corner[0]
+        if ranges >= 2:
+            demand[2] = corner[1]
+        if ranges >= 3:
+            dist[3] = corner[2]
+        count = bits.sum(axis=1)
+        worth = (40 + price * np.where(bits, dist, 0).max(axis=1) * 5 + 2 * (bits @ demand)
+                 + np.where(count >= 4, 25, 0))
+        total = 40 + price * dist.max() * 5 + 2 * demand.sum() + (25 if n >= 4 else 0)
+        pay = np.empty(n)
+        pay[0] = 0.15 * total
+        pay[1:] = (total - pay[0]) * demand[1:] / demand[1:].sum()
+        best = max(best, float((bits @ pay - worth).max()))
+    return best
+
+
+def cpu_timed(fn) -> tuple[float, object]:
+    """CPU seconds of the process (Z3's threads included) for one call."""
+    start = time.process_time()
+    out = fn()
+    return time.process_time() - start, out
+
+
 def timed(fn, repeat: int = 1) -> tuple[float, object]:
     times, out = [], None
     for _ in range(repeat):
@@ -91,10 +153,27 @@ def describe(results) -> str:
     return ", ".join(f"{r.requirement}: {r.status} ({r.method})" for r in results)
 
 
+def ranged_rows() -> None:
+    print("\n5. ranged checks by size, CPU seconds (goal), plain float corner sweep, ratio")
+    from pactlang.contingencies import check_contingency
+
+    for n, ranges, goal in ((10, 3, 2), (16, 3, 10), (20, 1, 3)):
+        model = load_text(ranged_towns(n, ranges)).model
+        seconds, results = cpu_timed(lambda: check_contingency(model, model.contingencies[0], CheckOptions()))
+        plain, top = cpu_timed(lambda: plain_corner_sweep(model, ranges))
+        met = "met" if seconds < goal else "NOT met"
+        print(f"   {n:>2} parties, {ranges} ranged: {seconds:6.2f} s (goal < {goal} s, {met})  "
+              f"plain {plain:.3f} s  ratio {seconds / plain:,.0f}x")
+        print(f"      {describe(results)}; worst excess {results[0].worst_excess} (plain float {top:.4f})")
+
+
 def main() -> None:
     quick = "--quick" in sys.argv
     print("pactlang contingency and large-agreement benchmark")
     print(f"python {sys.version.split()[0]}")
+    if "--ranges" in sys.argv:  # only the ranged rows (5.)
+        ranged_rows()
+        return
 
     model = load_text(six_party_ranges()).model
     seconds, results = timed(lambda: check_model(model, CheckOptions()), repeat=1 if quick else 3)
@@ -133,6 +212,7 @@ def main() -> None:
     for family in ("weighted voting", "sum threshold"):
         at = crossover.get(family)
         print(f"   {family}: milp faster from {at} parties" if at else f"   {family}: enumeration faster throughout")
+    ranged_rows()
 
 
 if __name__ == "__main__":

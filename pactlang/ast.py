@@ -158,6 +158,22 @@ class PartyDecl:
 
 
 @dataclass(frozen=True)
+class PartiesFrom:
+    """`parties from "FILE.csv"`: one party per row of a CSV file beside the agreement."""
+
+    path: str
+    span: Span | None = _span()
+
+
+@dataclass(frozen=True)
+class RoundPayouts:
+    """`round payouts to STEP by largest remainder` (Hamilton's method)."""
+
+    step: Num
+    span: Span | None = _span()
+
+
+@dataclass(frozen=True)
 class ParamDecl:
     name: Ident
     value: Num
@@ -303,6 +319,7 @@ class Require:
 Statement = Union[
     AgreementTitle, Shares, PartyDecl, ParamDecl, WorthEntry, WorthGrand, WorthFormula,
     WorthOtherwise, PayoutFixed, PayoutAll, PayoutRest, Contingency, Require,
+    PartiesFrom, RoundPayouts,
 ]
 
 

@@ -18,7 +18,7 @@ import sys
 import typer
 from typer.core import TyperGroup
 
-COMMANDS = ("check", "solve", "repair", "fmt", "lint", "serve")
+COMMANDS = ("check", "solve", "repair", "report", "diff", "fmt", "lint", "serve")
 EXIT_INTERNAL = 4
 
 

@@ -96,6 +96,7 @@ class Encoding:
         self._param = {r.param: self.var[r.key] for r in ranged if r.kind == "param"}
         self.ranges = [c for r in ranged for c in (self.var[r.key] >= real(r.low), self.var[r.key] <= real(r.high))]
         self._entries = self._listed_worths()
+        self.scrb_parts = None  # (s, r, sum r, v(N) - sum s) while `scrb_form` is to be chosen
         self.worth_all = self.worth_of(model.full)
         self.pay_num, self.den = self._payouts()
 
@@ -373,6 +374,19 @@ class Encoding:
             result = self.ite(self.is_coalition(mask), value, result)
         return result
 
+    def ranks_before(self, mask: int) -> z3.BoolRef:
+        """The coalitions that come before `mask` in the checker's order for ties:
+        fewer members, or as many and a smaller mask (party i is bit i)."""
+        k = bin(mask).count("1")
+        weighted = [(b, 1) for b in self.member]
+        smaller = []
+        for i in range(len(self.member) - 1, -1, -1):
+            if mask >> i & 1:
+                higher = [b if mask >> j & 1 else z3.Not(b) for j, b in enumerate(self.member) if j > i]
+                smaller.append(z3.And(z3.Not(self.member[i]), *higher))
+        fewer = z3.PbLe(weighted, k - 1) if k > 0 else z3.BoolVal(False)
+        return z3.Or(fewer, z3.And(z3.PbEq(weighted, k), z3.Or(smaller) if smaller else z3.BoolVal(False)))
+
     def is_coalition(self, mask: int) -> z3.BoolRef:
         return z3.And([b if mask >> i & 1 else z3.Not(b) for i, b in enumerate(self.member)])
 
@@ -462,9 +476,46 @@ class Encoding:
                     return sep, Fraction(1)  # nothing remains to share
                 raise Unsupported("separable costs remaining benefits: the remaining benefits add up to zero")
             return [self.add(sep[i], self.scale(self.mul(left, rem[i]), 1 / total)) for i in range(n)], Fraction(1)
-        self.divisors.append((total, "the sum of the remaining benefits"))
+        # whether the sum can be zero is decided by queries (`scrb_form`); until
+        # then the payouts read it as never zero
+        self.scrb_parts = (sep, rem, total, left)
+        self._nonlinear_worths = self.nonlinear
         self.nonlinear = True
         return [self.add(self.mul(sep[i], total), self.mul(left, rem[i])) for i in range(n)], total
+
+    def scrb_form(self, zero: str) -> None:
+        """Separable costs remaining benefits once it is known whether the sum of
+        the remaining benefits r is zero somewhere in the ranges (`zero`: "never",
+        "always", "sometimes" or "sometimes, changing sign"). Where sum r = 0 the
+        rule gives x_i = s_i, as it does for fixed values (defined only where the
+        non-separable part is zero there too, which the caller has proved):
+        - never: numerators over the common denominator sum r;
+        - always: x_i = s_i, denominator 1;
+        - "sometimes, positive" / "sometimes, negative": each payout an `if` on
+          sum r = 0, over the denominator sum r where it is not zero and +1 or
+          -1 (the sign sum r has elsewhere) where it is, so the denominator
+          keeps one sign for `orient`;
+        - "sometimes, changing sign": numerators and denominator multiplied by
+          sum r too (the denominator is then (sum r)^2 or 1, positive)."""
+        sep, rem, total, left = self.scrb_parts
+        n = len(sep)
+        if zero == "never":
+            self.divisors.append((total, "the sum of the remaining benefits"))
+            return
+        if zero == "always":
+            self.pay_num, self.den = list(sep), Fraction(1)
+            self.nonlinear = self._nonlinear_worths  # the payouts are the separable parts, as linear as the worths
+            self.divisors = [d for d in self.divisors if d[0] is not total]
+            return
+        is_zero = self.compare("==", total, Fraction(0))
+        nums = [self.add(self.mul(sep[i], total), self.mul(left, rem[i])) for i in range(n)]
+        den: Num = total
+        at_zero = Fraction(-1) if zero == "sometimes, negative" else Fraction(1)
+        if zero == "sometimes, changing sign":
+            nums = [self.mul(x, total) for x in nums]
+            den = self.mul(total, total)
+        self.pay_num = [self.ite(is_zero, self.scale(sep[i], at_zero), nums[i]) for i in range(n)]
+        self.den = self.ite(is_zero, at_zero, den)
 
     # ------------------------------------------------------------ excess
     def orient(self, den_sign: int) -> None:
@@ -481,8 +532,18 @@ class Encoding:
         return diff if self.model.kind == "value" else self.neg(diff)
 
     def coalition_excess(self) -> tuple[Num, Num]:
-        """(excess * den, worth) of the coalition given by the membership Booleans."""
+        """(excess * den, worth) of the coalition given by the membership Booleans.
+
+        When the denominator reads a ranged quantity, the worth is named by a
+        real of its own, defined by an equation added to `ranges` (so every
+        query carries it): the product worth * den is then a few monomials of
+        that real instead of a copy of den in every leaf of the worth's `if`s,
+        which nonlinear arithmetic handles far better."""
         w = self.worth()
+        if not isinstance(self.den, Fraction) and not isinstance(w, Fraction):
+            named = z3.Real("worth of the coalition")
+            self.ranges.append(named == w)
+            w = named
         return self.excess_num(w, lambda i: self.member[i]), w
 
     def fixed_excess(self, mask: int) -> tuple[Num, Num]:

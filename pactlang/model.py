@@ -29,6 +29,8 @@ class Payouts:
     rule: ast.Rule | None
     scope: str | None
     span: ast.Span | None = None
+    rounding: Fraction | None = None  # `round payouts to STEP by largest remainder`
+    rounding_span: ast.Span | None = None
 
 
 @dataclass(frozen=True)

@@ -184,6 +184,13 @@ class _ToAst(Transformer):
     def attribute(self, meta, items):
         return ast.Attribute(self._ident(items[0]), items[1], span=span_of(meta))
 
+    def parties_from(self, meta, items):
+        return ast.PartiesFrom(_unquote(items[0]), span=span_of(meta))
+
+    def round_payouts(self, meta, items):
+        text = str(items[0])
+        return ast.RoundPayouts(ast.Num(_decimal(text), text, span=span_of(items[0])), span=span_of(meta))
+
     def param(self, meta, items):
         return ast.ParamDecl(self._ident(items[0]), items[1], span=span_of(meta))
 

@@ -122,6 +122,12 @@ class Printer:
             return f"party {node.name.name}"
         return f"party {node.name.name}: " + ", ".join(self.fmt(a) for a in node.attributes)
 
+    def _fmt_parties_from(self, node: ast.PartiesFrom) -> str:
+        return f"parties from {quote(node.path)}"
+
+    def _fmt_round_payouts(self, node: ast.RoundPayouts) -> str:
+        return f"round payouts to {node.step.text} by largest remainder"
+
     def _fmt_param_decl(self, node: ast.ParamDecl) -> str:
         return f"param {node.name.name} = {node.value.text}"
 

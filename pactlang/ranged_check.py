@@ -28,11 +28,13 @@ from .exact_points import ExactPoints, Point
 from .formula import EvaluationError
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario
-from .supremum import supremum
+from .supremum import seeded, supremum
 from .worths import PayoutUnavailable
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
 
 DEFAULT_TIME_LIMIT = 60.0  # seconds per requirement when --time-limit is not given
+MAX_RANKING_QUERIES = 200  # queries spent ordering the counterexamples of one requirement
+MAX_SEED_BITS = 22  # candidates enumerated only while corners * coalitions stays within 2**22
 
 
 def allowed(req: ast.Require, worth: Fraction) -> Fraction:
@@ -87,6 +89,10 @@ class RangedCheck:
         self.queries = queries = Queries(enc)
         deadline = Deadline(self.limit)
         proper = self.proper_scope()
+        if enc.scrb_parts is not None:
+            reason = self._scrb_form(deadline)
+            if reason is not None:
+                return reason
         for term, what in enc.divisors:
             m = queries.solve([proper, term == 0], deadline)
             if m is not None:
@@ -117,6 +123,33 @@ class RangedCheck:
                 if symbolic != worths.exact(mask):
                     return (f"internal: the encoded worth of {{{', '.join(self.model.names_of(mask))}}} "
                             f"disagrees with the exact one at {where}")
+        self.points.attach(enc)
+        return None
+
+    def _scrb_form(self, deadline: Deadline) -> str | None:
+        """Decide where the sum of the remaining benefits is zero and choose the
+        encoding of the rule (`Encoding.scrb_form`); the reason when the rule is
+        not defined somewhere in the ranges."""
+        enc, queries = self.enc, self.queries
+        _, _, total, left = enc.scrb_parts
+        total, left = enc.z(total), enc.z(left)
+        zero = queries.solve([total == 0], deadline)
+        if zero is None:
+            enc.scrb_form("never")
+            return None
+        bad = queries.solve([total == 0, left != 0], deadline)
+        if bad is not None:
+            _, values = queries.witness(bad, deadline, extra=[total == 0, left != 0])
+            shown = ", ".join(f"{k} = {v}" for k, v in values.items())
+            return ("separable costs remaining benefits is not defined where the remaining benefits add up "
+                    f"to zero and the non-separable part does not (at {shown})")
+        if queries.solve([total != 0], deadline) is None:
+            enc.scrb_form("always")
+            return None
+        positive = queries.solve([total > 0], deadline) is not None
+        negative = queries.solve([total < 0], deadline) is not None
+        enc.scrb_form("sometimes, changing sign" if positive and negative
+                      else "sometimes, positive" if positive else "sometimes, negative")
         return None
 
     def proper_scope(self):
@@ -144,10 +177,11 @@ class RangedCheck:
         self.e_num, self.e_worth = self.enc.coalition_excess()
         self._budget_cache = None
         self._sup_cache: dict[str, tuple] = {}
+        self.seeds = self._seed_points()
         results = []
-        for req in self.model.requirements:
+        for index, req in enumerate(self.model.requirements):
             try:
-                results.append(self._requirement(req))
+                results.append(self._requirement(req, self.seeds.get(index, [])))
             except QueryUnknown as exc:
                 results.append(self._result(req, UNKNOWN, None, self._method(), reason=str(exc)))
             except Mismatch as exc:
@@ -157,11 +191,36 @@ class RangedCheck:
                                             reason=getattr(exc, "message", None) or str(exc)))
         return results
 
+    def _seed_points(self) -> dict[int, list[Point]]:
+        """Candidate points for each requirement (by index): the worst coalition
+        and the counterexamples of the enumerating checker at a few fixed
+        values (the corners of the box of ranges), evaluated exactly. They
+        only start the search: every claim is still settled by a query, but
+        when the worst case sits at such a point one unsat query proves it."""
+        from .check import MAX_ENUMERATED, Checker
+        from .scenario import corners
+
+        if self.model.n > MAX_ENUMERATED or self.model.n + len(self.scenario.ranged) > MAX_SEED_BITS:
+            return {}
+        seeds: dict[int, list[Point]] = {}
+        options = CheckOptions(top=self.options.top, search="enumeration", time_limit=self.limit / 4)
+        for values in corners(self.scenario.ranged):
+            try:
+                at = self.points.fixed_model(values)
+                for index, r in enumerate(Checker(at, options).run()):
+                    masks = [self.model.mask_of(c.coalition) for c in r.counterexamples]
+                    if r.worst_coalition is not None:
+                        masks.append(self.model.mask_of(r.worst_coalition))
+                    seeds.setdefault(index, []).extend(self.points.point(m, values) for m in dict.fromkeys(masks))
+            except (PayoutUnavailable, EvaluationError):
+                continue  # no candidates from a corner where the agreement cannot be evaluated
+        return seeds
+
     def _method(self, extra: str = "") -> str:
         base = "z3 optimize" if self.enc.linear else "z3 bisection"
         return base + extra
 
-    def _requirement(self, req) -> Result:
+    def _requirement(self, req, seeds: list[Point]) -> Result:
         deadline = Deadline(self.limit)
         if req.kind == "budget":
             return self._budget(req, deadline)
@@ -173,7 +232,26 @@ class RangedCheck:
             if budget is not None:
                 cex.append(self._cex(budget, Fraction(0)))
         cond = self._violation(req)
-        for p in self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth)):
+        in_scope = self._seeds_in(which, seeds)
+        if which not in self._sup_cache and in_scope:
+            # candidates from exact enumeration at the corners: when the best one is the
+            # worst case, two unsat queries prove it, and the verdict follows from it
+            try:
+                quick = seeded(self.queries, self.points, self.e_num, scope,
+                               Deadline(min(self.limit / 3, deadline.left())), in_scope)
+            except QueryUnknown:
+                quick = None
+            if quick is not None:
+                self._sup_cache[which] = quick
+        settled = self._sup_cache.get(which)
+        if settled is not None and settled[0] is not None and settled[0] <= allowed(req, Fraction(0)):
+            # every excess is at most the proved supremum (below it when not attained),
+            # and no allowed excess is below allowed(req, 0): nothing violates
+            violators = []
+        else:
+            violators = self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth),
+                                       in_scope)
+        for p in violators:
             cex.append(self._cex(p, allowed(req, p.worth)))
         cex = cex[: self.options.top]
         status = FAILS if cex else HOLDS
@@ -187,6 +265,16 @@ class RangedCheck:
         worst, worst_mask, note = self._sup_cache[which]
         return self._result(req, status, worst, self._method(note), cex=cex, worst_mask=worst_mask)
 
+    def _seeds_in(self, which: str, own: list[Point]) -> list[Point]:
+        """The seed points of every requirement that lie in the scope, this
+        requirement's own first."""
+        out: dict[tuple, Point] = {}
+        for p in [*own, *(p for ps in self.seeds.values() for p in ps)]:
+            if p.mask in (0, self.model.full) or (which == "singletons" and bin(p.mask).count("1") != 1):
+                continue
+            out.setdefault((p.mask, tuple(sorted(p.values.items()))), p)
+        return list(out.values())
+
     def _violation(self, req):
         """The condition `excess > allowed`, multiplied through by the positive denominator."""
         enc = self.enc
@@ -199,41 +287,84 @@ class RangedCheck:
         return enc.zb(enc.compare(">", self.e_num, bound))
 
     # ------------------------------------------------------------ violators
-    def violators(self, cond, scope, deadline: Deadline, violates) -> list[Point]:
+    def violators(self, cond, scope, deadline: Deadline, violates, seeds=()) -> list[Point]:
         """Up to `top` coalitions that violate `cond` for some values, worst
-        first, each with values at which it does, re-checked exactly.
+        first, each at its worst violating values, re-checked exactly.
 
         A plain satisfiability query decides first (unsat is the proof that
-        nothing violates); then, in the time left, the worst violators are
-        ranked, each found coalition cut off by a no-good on the membership
-        Booleans before the next query."""
-        enc = self.enc
-        first = self.queries.solve([scope, cond], deadline)
-        if first is None:
-            return []
-        witness = self._checked_point(first, [scope, cond], deadline, violates)
-        found: list[Point] = []
-        cuts = []
+        nothing violates). Then, in the time left, the list is ranked: each
+        query asks for a point that beats what is known, either a coalition
+        not listed with an excess above the `top`-th (or equal to it and
+        before it in the checker's order) or a listed coalition above its own
+        best. Unsat proves the list and each coalition's worst; a witness is
+        moved to its coalition's worst breakpoint (`ExactPoints.polish`) and
+        the query repeated."""
+        violating = [p for p in seeds if violates(p)]
+        if violating:
+            witness = max(violating, key=lambda p: p.excess)  # evaluated exactly: the refutation
+        else:
+            first = self.queries.solve([scope, cond], deadline)
+            if first is None:
+                return []
+            witness = self._checked_point(first, [scope, cond], deadline, violates)
+        found: dict[int, Point] = {}
+        bound: dict[int, Fraction] = {}  # per listed coalition: a value its violating excess is below or at
+
+        def add(p: Point) -> None:
+            p = self.points.polish(p, violates)
+            if p.mask not in found or p.excess > found[p.mask].excess:
+                found[p.mask] = p
+            bound[p.mask] = max(bound.get(p.mask, p.excess), self._coalition_limit(p, cond, scope, deadline))
+
+        self.order_proved = False
         try:
-            while len(found) < self.options.top:
-                constraints = [scope, cond, *cuts]
-                if enc.linear:
+            for p in [witness, *violating]:
+                add(p)
+            for _ in range(MAX_RANKING_QUERIES):
+                ranked = sorted(found.values(), key=_rank)
+                constraints = [scope, cond, *(self._beats(mask, bound[mask]) for mask in found)]
+                if len(ranked) >= self.options.top:
+                    kth = ranked[self.options.top - 1]
+                    constraints.append(z3.Or(self._above(kth.excess),
+                                             z3.And(self._reaches(kth.excess), self.enc.ranks_before(kth.mask))))
+                if self.enc.linear:
                     answer = self.queries.maximize(self.e_num, constraints, deadline)
                     zmodel = None if answer is None else answer[1]
                 else:
                     zmodel = self.queries.solve(constraints, deadline)
                 if zmodel is None:
+                    self.order_proved = True
                     break
-                p = self._checked_point(zmodel, constraints, deadline, violates)
-                found.append(self.points.polish(p, violates))
-                cuts.append(z3.Not(enc.is_coalition(p.mask)))
+                add(self._checked_point(zmodel, constraints, deadline, violates))
         except QueryUnknown:
-            pass  # the refutation in hand stands; the list is just shorter
-        if not any(p.mask == witness.mask for p in found):
-            found.append(self.points.polish(witness, violates))
-        # the solver finds coalitions in an order of its own: list them in the checker's order
-        found.sort(key=_rank)
-        return found[: self.options.top]
+            pass  # the refutation in hand stands; the list is the best found in the time
+        return sorted(found.values(), key=_rank)[: self.options.top]
+
+    def _above(self, value: Fraction):
+        """Z3 condition: the coalition's excess is above `value`."""
+        enc = self.enc
+        return enc.zb(enc.compare(">", self.e_num, enc.scale(enc.den, value)))
+
+    def _reaches(self, value: Fraction):
+        """Z3 condition: the coalition's excess is `value` or more."""
+        enc = self.enc
+        return enc.zb(enc.compare(">=", self.e_num, enc.scale(enc.den, value)))
+
+    def _beats(self, mask: int, value: Fraction):
+        """Z3 condition: another coalition than `mask`, or `mask` above `value`."""
+        return z3.Or(z3.Not(self.enc.is_coalition(mask)), self._above(value))
+
+    def _coalition_limit(self, p: Point, cond, scope, deadline: Deadline) -> Fraction:
+        """The best bound known for the coalition of `p`: its excess, or the
+        largest limit of its excess at a threshold when no violating point of
+        the coalition exceeds that limit (then the list need not chase a
+        supremum that is not attained)."""
+        limits = [lim for lim, _, _ in self.points.side_limits(p.mask, p.values) if lim > p.excess]
+        if not limits:
+            return p.excess
+        top = max(limits)
+        m = self.queries.solve([scope, cond, self.enc.is_coalition(p.mask), self._above(top)], deadline)
+        return top if m is None else p.excess
 
     def _checked_point(self, zmodel, constraints, deadline: Deadline, violates) -> Point:
         """The violating point of a Z3 model, re-checked exactly; when an

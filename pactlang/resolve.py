@@ -45,7 +45,7 @@ class _Resolver:
         for extra in shares[1:]:
             self.err("duplicate-shares", "a second `shares` line", extra.span)
 
-        self._parties([s for s in stmts if isinstance(s, ast.PartyDecl)])
+        self._parties([s for s in stmts if isinstance(s, (ast.PartyDecl, ast.PartiesFrom))])
         self._params([s for s in stmts if isinstance(s, ast.ParamDecl)])
         self._worths(stmts)
         payouts = self._payouts(stmts)
@@ -80,12 +80,38 @@ class _Resolver:
             party_spans=self.party_spans,
         )
 
-    def _parties(self, decls: list[ast.PartyDecl]) -> None:
+    def _party_rows(self, source: ast.PartiesFrom) -> list[ast.PartyDecl]:
+        """The parties of a `parties from` file, as if each row were a `party` line at the statement."""
+        from pathlib import Path
+
+        from .party_table import PartyTableError, read_party_table
+        from .printer import _keywords
+
+        base = Path(self.path).parent if self.path not in ("-", "<agreement>") else Path(".")
+        try:
+            table = read_party_table(base / source.path, source.path, _keywords())
+        except PartyTableError as exc:
+            self.err("party-table", str(exc), source.span)
+            return []
+        span = source.span
+        decls = []
+        for row in table.rows:
+            attrs = tuple(ast.Attribute(ast.Ident(col, span=span), ast.Num(value, str(value), span=span), span=span)
+                          for col, value in row.attributes.items())
+            decls.append(ast.PartyDecl(ast.Ident(row.name, span=span), attrs, span=span))
+        if not decls:
+            self.err("party-table", f"`{source.path}` lists no parties", span)
+        return decls
+
+    def _parties(self, decls: list) -> None:
         self.parties: list[str] = []
         self.party_spans: dict[str, ast.Span] = {}
         self.attributes: dict[str, dict[str, Fraction]] = {}
         self.attribute_spans: dict[str, ast.Span] = {}
+        expanded = []
         for decl in decls:
+            expanded.extend(self._party_rows(decl) if isinstance(decl, ast.PartiesFrom) else [decl])
+        for decl in expanded:
             name = decl.name.name
             if name in self.party_spans:
                 self.err("duplicate-party", f"party `{name}` is declared twice", decl.name.span,
@@ -103,6 +129,8 @@ class _Resolver:
                 self.attribute_spans.setdefault(attr.name.name, attr.name.span)
         if len(self.parties) < 2:
             span = decls[0].span if decls else (self.doc.statements[0].span if self.doc.statements else None)
+            if any(d.code == "party-table" for d in self.diags):
+                return  # the table's own error says it
             self.err("too-few-parties", "an agreement needs at least two parties", span)
         for attr, span in self.attribute_spans.items():
             if attr in self.party_spans:
@@ -318,7 +346,15 @@ class _Resolver:
                 if p not in fixed:
                     self.err("unpaid-party", f"party `{p}` has no payout", self.party_spans[p],
                              "add `payout NAME = ...` or a `payout by`/`payout rest by` rule")
-        return Payouts(fixed, rule, scope, span)
+        rounding, rounding_span = None, None
+        rounds = [s for s in stmts if isinstance(s, ast.RoundPayouts)]
+        for extra in rounds[1:]:
+            self.err("duplicate-rounding", "a second `round payouts` line", extra.span)
+        if rounds:
+            rounding, rounding_span = rounds[0].step.value, rounds[0].span
+            if rounding <= 0:
+                self.err("rounding-step", "the rounding step must be above zero", rounds[0].step.span)
+        return Payouts(fixed, rule, scope, span, rounding, rounding_span)
 
     # ------------------------------------------------------------ contingencies
     def _contingency(self, c: ast.Contingency) -> None:

@@ -8,12 +8,13 @@ agreement, for the ranged check to decide over every value.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields, is_dataclass, replace
 from fractions import Fraction
 from itertools import product
 
 from . import ast
 from .encode_z3 import Ranged
+from .formula import is_aggregate
 from .model import Model
 
 
@@ -42,8 +43,12 @@ def scenario_of(model: Model, contingency: ast.Contingency) -> Scenario:
     ranges: list[tuple[str, Fraction, Fraction, tuple]] = []
     gone: list[str] = []
     fixed: dict[str, Fraction] = {}
+    notes = []
+    leaving = {line.party.name for line in contingency.lines if isinstance(line, ast.Without)}
     for line in contingency.lines:
         match line:
+            case ast.AttrFixed(attribute=a, party=p) if p.name in leaving:
+                notes.append(f"`{a.name} of {p.name}` is ignored: the party has withdrawn")
             case ast.AttrFixed(attribute=a, party=p, value=v):
                 attrs[(a.name, p.name)] = v.value
                 fixed[f"{a.name} of {p.name}"] = v.value
@@ -51,7 +56,7 @@ def scenario_of(model: Model, contingency: ast.Contingency) -> Scenario:
                 params[p.name] = v.value
                 fixed[p.name] = v.value
             case ast.AttrRange(attribute=a, party=p, low=lo, high=hi):
-                if lo.value == hi.value:
+                if lo.value == hi.value and p.name not in leaving:
                     attrs[(a.name, p.name)] = lo.value
                     fixed[f"{a.name} of {p.name}"] = lo.value
                 else:
@@ -66,11 +71,10 @@ def scenario_of(model: Model, contingency: ast.Contingency) -> Scenario:
                 worth_lines.append((tuple(m.name for m in members), lo.value, hi.value))
             case ast.Without(party=p):
                 gone.append(p.name)
-    notes = []
     scenario = model.with_values(attributes=attrs, params=params)
     for party in gone:
         if party in scenario.parties:
-            scenario = scenario.without(party)
+            scenario = without_party(scenario, party)
     ranged: list[Ranged] = []
     for key, lo, hi, what in ranges:
         if what[0] == "attribute":
@@ -97,6 +101,72 @@ def scenario_of(model: Model, contingency: ast.Contingency) -> Scenario:
     # a later line on the same quantity replaces an earlier one
     by_key = {r.key: r for r in ranged}
     return Scenario(scenario, list(by_key.values()), fixed, notes)
+
+
+def without_party(model: Model, party: str) -> Model:
+    """The agreement read for the other parties only (`Model.without`), with
+    every `PARTY in S` of the withdrawn party read as 0: no coalition of the
+    smaller game contains it, so the formula still gives each of them the
+    worth it had in the larger game."""
+    smaller = model.without(party)
+    formula = smaller.formula
+    if formula is not None:
+        formula = replace(formula, expr=_member_as_zero(formula.expr, party))
+    table = {mask: _member_as_zero(e, party) for mask, e in smaller.table.items()}
+    fixed = {p: replace(line, expr=_member_as_zero(line.expr, party)) for p, line in smaller.payouts.fixed.items()}
+    return replace(smaller, formula=formula, table=table, payouts=replace(smaller.payouts, fixed=fixed))
+
+
+def _children(node) -> list:
+    """The syntax nodes directly below `node`, whatever its kind (so node kinds
+    added later are rewritten too)."""
+    out = []
+    for f in fields(node):
+        value = getattr(node, f.name)
+        if isinstance(value, (tuple, list)):
+            out.extend(v for v in value if _is_expr(v))
+        elif _is_expr(value):
+            out.append(value)
+    return out
+
+
+def _is_expr(value) -> bool:
+    return is_dataclass(value) and not isinstance(value, (type, ast.Span, ast.Ident))
+
+
+def _member_as_zero(expr, party: str):
+    """`expr` with `party in S` replaced by 0, rebuilt bottom-up without
+    recursion (long chains of `+` nest deeply); untouched subtrees are kept."""
+    if expr is None:
+        return None
+    done: dict[int, object] = {}
+    stack = [(expr, False)]
+    while stack:
+        node, expanded = stack.pop()
+        if id(node) in done:
+            continue
+        if isinstance(node, ast.Member):
+            done[id(node)] = ast.Num(Fraction(0), "0", span=node.span) if node.item == party else node
+            continue
+        if isinstance(node, ast.Call) and is_aggregate(node):
+            done[id(node)] = node  # `sum(ATTR in S)` names an attribute, not a party
+            continue
+        kids = _children(node)
+        if not expanded:
+            stack.append((node, True))
+            stack.extend((k, False) for k in kids if id(k) not in done)
+            continue
+        changes = {}
+        for f in fields(node):
+            value = getattr(node, f.name)
+            if isinstance(value, (tuple, list)) and any(_is_expr(v) for v in value):
+                new = type(value)(done.get(id(v), v) if _is_expr(v) else v for v in value)
+                if any(a is not b for a, b in zip(new, value)):
+                    changes[f.name] = new
+            elif _is_expr(value) and done.get(id(value), value) is not value:
+                changes[f.name] = done[id(value)]
+        done[id(node)] = replace(node, **changes) if changes else node
+    return done[id(expr)]
 
 
 def corners(ranged: list[Ranged]):

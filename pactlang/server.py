@@ -8,12 +8,17 @@ layout. What to answer is worked out in `pactlang.editor`, which knows
 nothing of the protocol; this module converts positions, builds the protocol's
 messages and schedules the work.
 
-Syntax, name and lint diagnostics are published at once on every change. The
-stability check waits for a pause in typing (`DELAY`), runs in a background
-thread so that typing and requests are never held up, and its results are
-dropped when the text changed while it ran. Until fresh verdicts arrive, the
-previous ones stay on requirement lines whose text and place did not change,
-so squiggles do not flicker on every keystroke.
+Syntax, name and lint diagnostics are published at once on every change; a
+crash of the library there becomes an error diagnostic on that version, so
+nothing is ever shown for text that is gone. The stability check waits for a
+pause in typing (`DELAY`) and, like the payouts a hover on a party asks for,
+runs in one child process (`editor.worker`): one job at a time, the newest
+version wins, and the work of a replaced or closed version is stopped by
+killing the child, so memory stays flat however fast the text changes.
+Results that arrive for replaced text are dropped. Until fresh verdicts
+arrive, the previous ones stay on requirement lines whose text and place did
+not change, so squiggles do not flicker on every keystroke. A request whose
+parameters do not fit its method gets an `InvalidParams` error.
 
 Positions: the library's spans count lines and characters from 1 with an
 exclusive end column; the editor counts from 0 in the code units agreed at
@@ -24,25 +29,29 @@ crosses the boundary is converted here.
 from __future__ import annotations
 
 import asyncio
-import threading
-import traceback
+import logging
 from fractions import Fraction
-from typing import Callable
 
 from lsprotocol import types
+from pygls.exceptions import JsonRpcException, JsonRpcInvalidParams
 from pygls.lsp.server import LanguageServer
+from pygls.protocol import LanguageServerProtocol
 from pygls.uris import to_fs_path
 
 from . import __version__, ast
 from .diagnostics import AgreementError, Diagnostic
+from .editor.completion import Suggestion, suggestions
 from .editor.hovers import attribute_hover, param_hover, party_hover, requirement_hover
 from .editor.names import FUNCTIONS, declarations, declared_names, keywords, ref_at, requirement_at
-from .editor.snapshot import TIME_LIMIT, Snapshot, analyse, carry_over, compute_payouts, run_check
+from .editor.snapshot import TIME_LIMIT, Snapshot, analyse, carry_over
+from .editor.worker import CHECK, PAYOUTS, Superseded, Worker, WorkerFailed
 from .load import FILE_START
 
 DELAY = 0.5  # seconds of quiet typing before the stability check starts
 HOVER_WAIT = 2.0  # seconds a hover waits for a check or payout still running
 SOURCE = "pactlang"
+
+log = logging.getLogger("pactlang.server")
 
 _SEVERITY = {"error": types.DiagnosticSeverity.Error, "warning": types.DiagnosticSeverity.Warning}
 
@@ -51,39 +60,26 @@ _SEVERITY = {"error": types.DiagnosticSeverity.Error, "warning": types.Diagnosti
 
 
 def analyse_uri(uri: str, version: int | None, text: str) -> Snapshot:
-    """`analyse` one version of a document, reading the file path from its URI."""
-    return analyse(uri, version, text, to_fs_path(uri) or uri)
+    """`analyse` one version of a document, reading the file path from its URI.
 
-
-def in_thread(fn: Callable, *args) -> asyncio.Future:
-    """Run `fn(*args)` in a daemon thread; the future settles on the event loop.
-
-    A daemon thread rather than an executor: a long check still running when
-    the editor quits must not keep the process alive.
+    A crash of the library becomes an error diagnostic on this version, so
+    nothing of the previous version (its diagnostics, its hovers) stays on
+    screen for text that is gone.
     """
-    loop = asyncio.get_running_loop()
-    future = loop.create_future()
+    path = to_fs_path(uri) or uri
+    try:
+        return analyse(uri, version, text, path)
+    except Exception as exc:
+        log.exception("analysing %s failed", uri)
+        return Snapshot(uri, version, text, None, None, [internal_error("the analysis", exc)])
 
-    def settle(result, error) -> None:
-        if future.done():
-            return
-        if error is None:
-            future.set_result(result)
-        else:
-            future.set_exception(error)
 
-    def work() -> None:
-        try:
-            outcome = (fn(*args), None)
-        except Exception as exc:
-            outcome = (None, exc)
-        try:
-            loop.call_soon_threadsafe(settle, *outcome)
-        except RuntimeError:  # the loop closed while we worked: nobody is waiting
-            pass
-
-    threading.Thread(target=work, name="pactlang-check", daemon=True).start()
-    return future
+def internal_error(what: str, exc: BaseException | str) -> Diagnostic:
+    """An error diagnostic at the start of the file for a crash inside pactlang."""
+    reason = exc if isinstance(exc, str) else f"{type(exc).__name__}: {exc}"
+    reason = reason.strip().splitlines()[-1] if reason.strip() else "no reason was given"
+    return Diagnostic("internal", "error", f"{what} stopped with an internal error ({reason})", FILE_START,
+                      "the server log has the details; please report it with the file attached")
 
 
 # ---------------------------------------------------------------- completion
@@ -94,6 +90,15 @@ _ITEM_KIND = {
     "attribute": types.CompletionItemKind.Field,
     "param": types.CompletionItemKind.Constant,
 }
+
+
+def completion_item(suggestion: Suggestion) -> types.CompletionItem:
+    """A word that fits at the cursor, names before functions before keywords."""
+    kind = _ITEM_KIND.get(suggestion.kind) or (
+        types.CompletionItemKind.Function if suggestion.kind == "function" else types.CompletionItemKind.Keyword)
+    order = {"function": 1, "keyword": 2}.get(suggestion.kind, 0)
+    return types.CompletionItem(label=suggestion.label, kind=kind, detail=suggestion.kind,
+                                sort_text=f"{order}{suggestion.label}")
 
 
 def completions(document: ast.Document | None) -> list[types.CompletionItem]:
@@ -154,17 +159,56 @@ def to_lsp(diagnostic: Diagnostic, lines: list[str], codec) -> types.Diagnostic:
 # ---------------------------------------------------------------- the server
 
 
+class _Ignored:
+    """Stands for a message that was answered with an error while being read."""
+
+    jsonrpc = None
+
+
+class PactProtocol(LanguageServerProtocol):
+    """pygls' protocol, except that a request whose parameters do not fit its
+    method is answered with an `InvalidParams` error instead of being dropped
+    (the client would wait for an answer forever)."""
+
+    def structure_message(self, data: dict):
+        try:
+            return super().structure_message(data)
+        except JsonRpcException as exc:
+            if "id" in data and "method" in data:  # a request: it must get an answer
+                what = "invalid parameters" if isinstance(exc, JsonRpcInvalidParams) else "unreadable request"
+                message = f"{what} for `{data['method']}`"
+                self._send_response(data["id"], error=type(exc)(message).to_response_error())
+            return _Ignored()
+
+    def handle_message(self, message) -> None:
+        if not isinstance(message, _Ignored):
+            super().handle_message(message)
+
+
+def not_open(uri: str, exc: OSError) -> JsonRpcInvalidParams:
+    """The error answer for a request about a document that is neither open nor readable."""
+    return JsonRpcInvalidParams(f"the document `{uri}` is not open and cannot be read: {exc.strerror or exc}")
+
+
 class PactServer(LanguageServer):
     """The language server: one `Snapshot` per open document."""
 
     def __init__(self, delay: float = DELAY, time_limit: float | None = TIME_LIMIT):
-        super().__init__(SOURCE, __version__)
+        super().__init__(SOURCE, __version__, protocol_cls=PactProtocol)
         self.delay = delay
         self.time_limit = time_limit
         self.snapshots: dict[str, Snapshot] = {}
         self.last_parsed: dict[str, ast.Document] = {}  # names to complete while the text is broken
-        self.check_lock = asyncio.Lock()  # one check at a time: they share two cores with the editor
+        # one child process for checks and payouts, killed when its text is gone
+        self.worker: Worker | None = None
         self.background: set[asyncio.Task] = set()
+
+    def work(self, snap: Snapshot, kind: str) -> asyncio.Future:
+        """Queue a check or payout job for this version; older versions' jobs are dropped."""
+        if self.worker is None:
+            self.worker = Worker()
+        return self.worker.submit(snap.uri, snap.version, kind, snap.text, to_fs_path(snap.uri) or snap.uri,
+                                  self.time_limit)
 
     # ------------------------------------------------------------ documents
     def update(self, uri: str) -> None:
@@ -176,6 +220,8 @@ class PactServer(LanguageServer):
         self.snapshots[uri] = snap
         if old is not None:
             old.done.set()  # a hover waiting on the old version gives up at once
+        if self.worker is not None:  # the old version's check or payouts: stop them now
+            self.worker.cancel(uri, keep_version=snap.version)
         if snap.document is not None:
             self.last_parsed[uri] = snap.document
         self.publish(snap)
@@ -191,6 +237,8 @@ class PactServer(LanguageServer):
         self.last_parsed.pop(uri, None)
         if old is not None:
             old.done.set()
+        if self.worker is not None:
+            self.worker.cancel(uri)
         self.text_document_publish_diagnostics(types.PublishDiagnosticsParams(uri=uri, diagnostics=[]))
 
     def current(self, snap: Snapshot) -> bool:
@@ -198,29 +246,33 @@ class PactServer(LanguageServer):
 
     def snapshot(self, uri: str) -> Snapshot:
         snap = self.snapshots.get(uri)
-        if snap is None:  # a request for a document we were never told about
-            doc = self.workspace.get_text_document(uri)
-            snap = analyse_uri(uri, doc.version, doc.source)
+        if snap is None:  # a request for a document we were never told about: read it from disk
+            try:
+                doc = self.workspace.get_text_document(uri)
+                snap = analyse_uri(uri, doc.version, doc.source)
+            except OSError as exc:
+                raise not_open(uri, exc) from None
         return snap
 
     async def check_later(self, snap: Snapshot) -> None:
-        """Debounce, check in a thread, and publish unless the text moved on."""
+        """Debounce, check in the worker, and publish unless the text moved on."""
         await asyncio.sleep(self.delay)
         if not self.current(snap):
             return
-        async with self.check_lock:
-            if not self.current(snap):  # newer text arrived while another check ran
-                return
-            try:
-                results, problems = await in_thread(run_check, snap.model, self.time_limit)
-            except Exception:
-                self.log(types.MessageType.Error, "the stability check failed:\n" + traceback.format_exc())
-                results, problems = [], [Diagnostic(
-                    "internal", "warning", "the stability check stopped with an internal error",
-                    FILE_START, "the server log has the details; please report it with the file attached")]
+        try:
+            results, problems = await self.work(snap, CHECK)
+        except Superseded:
+            return
+        except WorkerFailed as exc:
+            log.error("the stability check of %s failed:\n%s", snap.uri, exc)
+            results, problems = [], [internal_error("the stability check", str(exc))]
         if not self.current(snap):  # stale: the text changed while the check ran
             return
-        snap.finish(results, problems)
+        try:
+            snap.finish(results, problems)
+        except Exception as exc:  # the verdicts could not be explained: say so on this version
+            log.exception("explaining the verdicts of %s failed", snap.uri)
+            snap.finish([], [internal_error("the stability check", exc)])
         self.publish(snap)
 
     def publish(self, snap: Snapshot) -> None:
@@ -236,13 +288,16 @@ class PactServer(LanguageServer):
         if snap.model is None:
             return None, None
         if snap.payouts is None:
-            snap.payouts = in_thread(compute_payouts, snap.model)
+            snap.payouts = self.work(snap, PAYOUTS)
         try:
             return await asyncio.wait_for(asyncio.shield(snap.payouts), HOVER_WAIT)
         except asyncio.TimeoutError:
             return None, "still being computed"
-        except Exception as exc:
-            return None, f"internal error: {exc}"
+        except Superseded:
+            return None, "the text changed; hover again"
+        except WorkerFailed as exc:
+            log.error("the payouts of %s failed:\n%s", snap.uri, exc)
+            return None, "internal error (see the server log)"
 
     # ------------------------------------------------------------ requests
     async def hover(self, params: types.HoverParams) -> types.Hover | None:
@@ -289,7 +344,10 @@ class PactServer(LanguageServer):
         or the text does not parse."""
         from .format import FormatError, format_text
 
-        text = self.workspace.get_text_document(params.text_document.uri).source
+        try:
+            text = self.workspace.get_text_document(params.text_document.uri).source
+        except OSError as exc:
+            raise not_open(params.text_document.uri, exc) from None
         try:
             formatted = format_text(text)
         except AgreementError:
@@ -305,10 +363,20 @@ class PactServer(LanguageServer):
                                new_text=formatted)]
 
     def completion(self, params: types.CompletionParams) -> types.CompletionList:
+        """The words that fit at the cursor (see `editor.completion`); every
+        name and keyword when the statement there cannot be read."""
         uri = params.text_document.uri
         snap = self.snapshots.get(uri)
         document = snap.document if snap and snap.document else self.last_parsed.get(uri)
-        return types.CompletionList(is_incomplete=False, items=completions(document))
+        try:
+            text = self.workspace.get_text_document(uri).source
+        except OSError as exc:
+            raise not_open(uri, exc) from None
+        lines = text.split("\n")
+        line, column = from_position(lines, self.workspace.position_codec, params.position)
+        found = suggestions(text, line, column, declared_names(document) if document else {})
+        items = completions(document) if found is None else [completion_item(s) for s in found]
+        return types.CompletionList(is_incomplete=False, items=items)
 
 
 def build_server(delay: float = DELAY, time_limit: float | None = TIME_LIMIT) -> PactServer:
@@ -326,6 +394,11 @@ def build_server(delay: float = DELAY, time_limit: float | None = TIME_LIMIT) ->
     @server.feature(types.TEXT_DOCUMENT_DID_CLOSE)
     async def did_close(ls: PactServer, params: types.DidCloseTextDocumentParams) -> None:
         ls.close(params.text_document.uri)
+
+    @server.feature(types.SHUTDOWN)
+    def shutdown(ls: PactServer, params: None) -> None:
+        if ls.worker is not None:
+            ls.worker.close()
 
     @server.feature(types.TEXT_DOCUMENT_HOVER)
     async def hover(ls: PactServer, params: types.HoverParams):

@@ -11,7 +11,8 @@ from . import ast
 _RANK = {
     ast.AgreementTitle: 0, ast.Shares: 1, ast.PartyDecl: 2, ast.ParamDecl: 3,
     ast.WorthEntry: 4, ast.WorthGrand: 4, ast.WorthFormula: 4, ast.WorthOtherwise: 4,
-    ast.PayoutFixed: 5, ast.PayoutAll: 5, ast.PayoutRest: 5, ast.Contingency: 6, ast.Require: 7,
+    ast.PayoutFixed: 5, ast.PayoutAll: 5, ast.PayoutRest: 5, ast.RoundPayouts: 5,
+    ast.Contingency: 6, ast.Require: 7, ast.PartiesFrom: 2,
 }
 
 

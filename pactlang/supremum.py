@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from fractions import Fraction
 
+import z3
+
 from .encode_z3 import real
 from .exact_points import ExactPoints
 from .z3_queries import Deadline, Mismatch, Queries, QueryUnknown
@@ -44,8 +46,70 @@ def supremum(queries: Queries, points: ExactPoints, e_num, scope, deadline: Dead
                     mask, values = queries.witness(m, deadline, extra=[scope])
                     if points.point(mask, values).excess != s:
                         raise Mismatch("the worst excess did not re-check exactly")
-                return s, mask, ""
+                return s, first_attaining(queries, points, e_num, scope, s, mask, deadline), ""
     return bisect(queries, points, e_num, scope, deadline)
+
+
+def seeded(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadline, seeds) -> Supremum | None:
+    """The supremum when it is the best seed (moved to its coalition's worst
+    breakpoint), proved by two unsat queries: no other coalition reaches it,
+    and its own coalition does not exceed it (a query on that coalition
+    alone, so a small one). Then it is attained by that coalition only, which
+    is therefore the first in any order. None when either query is sat."""
+    enc = queries.enc
+    best = points.polish(max(seeds, key=lambda p: (p.excess, -bin(p.mask).count("1"), -p.mask)))
+    bound = enc.scale(enc.den, best.excess)
+    others = [scope, z3.Not(enc.is_coalition(best.mask)), enc.zb(enc.compare(">=", e_num, bound))]
+    if queries.solve(others, deadline) is not None:
+        return None
+    own, _ = enc.fixed_excess(best.mask)
+    if queries.solve([enc.zb(enc.compare(">", own, bound))], deadline) is not None:
+        return None
+    return best.excess, best.mask, ""
+
+
+def first_attaining(queries: Queries, points: ExactPoints, e_num, scope, s: Fraction, mask: int,
+                    deadline: Deadline) -> int:
+    """Of the coalitions whose excess reaches the supremum `s`, the first in
+    the checker's order (fewest members, then smallest mask), as enumeration
+    names it; `mask` is one of them."""
+    enc = queries.enc
+    reaches = enc.zb(enc.compare(">=", e_num, enc.scale(enc.den, s)))
+    while True:
+        constraints = [scope, reaches, enc.ranks_before(mask)]
+        try:
+            m = queries.solve(constraints, deadline)
+        except QueryUnknown:
+            return mask  # a coalition attaining it, if not the first
+        if m is None:
+            return mask
+        mask, values = queries.witness(m, deadline, extra=constraints)
+        if points.point(mask, values).excess != s:
+            raise Mismatch("a coalition reaching the worst excess did not re-check exactly")
+
+
+def _limit_above(queries: Queries, points: ExactPoints, e_num, scope, best, deadline: Deadline) -> Supremum | None:
+    """The supremum when it is a limit of the best coalition's excess at one of
+    its thresholds: the limit L is approached (`ExactPoints.side_limits`), and
+    an unsat query proves that nothing exceeds it. Attained when some point
+    reaches L exactly, otherwise reported as not attained. None when no limit
+    is above the best excess or one is exceeded."""
+    enc = queries.enc
+    limits = [lim for lim, _, _ in points.side_limits(best.mask, best.values) if lim > best.excess]
+    if not limits:
+        return None
+    top = max(limits)
+    above = enc.zb(enc.compare(">", e_num, enc.scale(enc.den, top)))
+    if queries.solve([scope, above], deadline) is not None:
+        return None
+    reaches = enc.zb(enc.compare(">=", e_num, enc.scale(enc.den, top)))
+    m = queries.solve([scope, reaches], deadline)
+    if m is None:
+        return top, None, " (supremum not attained)"
+    mask, values = queries.witness(m, deadline, extra=[scope, reaches])
+    if points.point(mask, values).excess != top:
+        raise Mismatch("a point reaching the worst excess did not re-check exactly")
+    return top, first_attaining(queries, points, e_num, scope, top, mask, deadline), ""
 
 
 def bisect(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadline) -> Supremum:
@@ -68,10 +132,14 @@ def bisect(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadli
     for _ in range(MAX_BISECTION_STEPS):
         try:
             m = queries.solve([scope, above(best.excess)], deadline)
+            if m is None:
+                return best.excess, first_attaining(queries, points, e_num, scope, best.excess, best.mask,
+                                                    deadline), ""
+            settled = _limit_above(queries, points, e_num, scope, best, deadline)
         except QueryUnknown:
             break
-        if m is None:
-            return best.excess, best.mask, ""
+        if settled is not None:
+            return settled
         mask, values = queries.witness(m, deadline, extra=[scope, above(best.excess)])
         p = points.polish(points.point(mask, values))
         if p.excess <= best.excess:
@@ -82,8 +150,11 @@ def bisect(queries: Queries, points: ExactPoints, e_num, scope, deadline: Deadli
             target = best.excess + step
             step *= 4
         else:
-            if high <= best.excess:
+            if high < best.excess:
                 raise Mismatch("a witness exceeded a proved bound")
+            if high == best.excess:  # nothing exceeds it (proved) and best reaches it
+                return best.excess, first_attaining(queries, points, e_num, scope, best.excess, best.mask,
+                                                    deadline), ""
             target = simple_between(best.excess, high)
         try:
             m = queries.solve([scope, above(target)], deadline)

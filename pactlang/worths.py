@@ -74,7 +74,32 @@ class Worths:
 
 
 def payout(worths: Worths) -> list[Fraction]:
-    """The exact payout of every party, in party order."""
+    """The exact payout of every party, in party order, rounded when the agreement says so."""
+    amounts = _unrounded_payout(worths)
+    step = worths.model.payouts.rounding
+    return amounts if step is None else largest_remainder(amounts, step)
+
+
+def largest_remainder(amounts: list[Fraction], step: Fraction) -> list[Fraction]:
+    """Amounts rounded to multiples of `step` by the largest remainder method (after Hamilton).
+
+    Every amount is first rounded down to the step; the steps this leaves
+    over go one each to the parties with the largest remainders, ties to the
+    party declared first, so the total is kept whenever it is a multiple of
+    the step. When it is not, the total moves by less than one step and the
+    `balanced budget` requirement reports it.
+    """
+    floors = [(x / step).__floor__() for x in amounts]
+    remainders = [x - f * step for x, f in zip(amounts, floors)]
+    leftover = (sum(amounts, Fraction(0)) - sum(floors) * step) / step
+    extra = max(0, min(len(amounts), leftover.__floor__()))
+    order = sorted(range(len(amounts)), key=lambda i: (-remainders[i], i))
+    for i in order[:extra]:
+        floors[i] += 1
+    return [Fraction(f) * step for f in floors]
+
+
+def _unrounded_payout(worths: Worths) -> list[Fraction]:
     model = worths.model
     n = model.n
     wall = worths.worth_all

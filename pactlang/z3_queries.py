@@ -30,6 +30,10 @@ class Deadline:
         self.seconds = seconds
         self.end = time.monotonic() + seconds
 
+    def left(self) -> float:
+        """Seconds left, at least 0."""
+        return max(0.0, self.end - time.monotonic())
+
     def left_ms(self) -> int:
         """Milliseconds left, at least 1 (Z3 reads 0 as no limit)."""
         return max(1, int((self.end - time.monotonic()) * 1000))

@@ -474,6 +474,10 @@ require stable
 TIE_ORDERS = [
     ("d grows", 5, [("a", "b", "c"), ("a", "b"), ("a", "c"), ("b", "c"), ("a", "d")], [6, 5, 5, 5, 5]),
     ("rate moves", 6, [("a", "d"), ("b", "d"), ("c", "d"), ("a", "b"), ("a", "c"), ("b", "c")], [5, 5, 5, 1, 1, 1]),
+    # fewer places than tied coalitions: the first ones in the checker's order take them
+    ("rate moves", 2, [("a", "d"), ("b", "d")], [5, 5]),
+    ("rate moves", 4, [("a", "d"), ("b", "d"), ("c", "d"), ("a", "b")], [5, 5, 5, 1]),
+    ("d grows", 3, [("a", "b", "c"), ("a", "b"), ("a", "c")], [6, 5, 5]),
 ]
 
 
@@ -542,3 +546,232 @@ def test_progress_is_silent_off_a_terminal_and_draws_on_one():
     check_model(model, CheckOptions(progress=progress))
     out = stream.getvalue()
     assert "[file 1/1]" in out and '"deep range"' in out and out.endswith("\r\x1b[K")
+
+
+# ---------------------------------------------------------------- a withdrawn party named in the agreement
+
+MEMBER_BONUS = """\
+agreement "m"
+shares value
+party a: w 2
+party b: w 1
+party c: w 1
+worth S = count(S) + 5 * (a in S) + (if (a in S) and (b in S) then 3 else 0)
+{rows}
+{payout}
+contingency "a leaves" {{ {lines} }}
+require stable
+require balanced budget
+"""
+
+# the same agreement read for b and c only, written by hand: `a in S` is 0 for each of their coalitions
+MEMBER_BONUS_SMALL = """\
+agreement "m"
+shares value
+party b: w 1
+party c: w 1
+worth S = count(S)
+{rows}
+{payout}
+{contingency}
+require stable
+require balanced budget
+"""
+
+
+def _bonus(rows="", payout="payout by equal split", lines="without a"):
+    return model_of(MEMBER_BONUS.format(rows=rows, payout=payout, lines=lines))
+
+
+def _bonus_small(rows="", payout="payout by equal split", contingency=""):
+    return model_of(MEMBER_BONUS_SMALL.format(rows=rows, payout=payout, contingency=contingency))
+
+
+def test_a_withdrawn_party_is_in_no_coalition_of_the_smaller_game():
+    # `a in S` raised "tuple.index(x): x not in tuple" under `without a`
+    model = _bonus()
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    want = Checker(_bonus_small(), CheckOptions()).run()
+    assert summary(got) == summary(want)
+    # v({b}) = v({c}) = 1, v({b, c}) = 2, each gets 1: every excess is 0 [derived]
+    assert [(r.status, r.worst_excess) for r in got] == [(HOLDS, F(0)), (HOLDS, F(0))]
+
+
+def test_check_model_runs_the_baseline_and_the_withdrawal_of_a_named_party():
+    results = check_model(_bonus(), CheckOptions())
+    assert [(r.contingency, r.status) for r in results] == [
+        (None, FAILS), (None, HOLDS), ("a leaves", HOLDS), ("a leaves", HOLDS)]
+
+
+def test_a_withdrawn_party_named_in_the_formula_under_a_range():
+    # the Z3 path reads the formula too: the same smaller game with the same range
+    model = _bonus(payout="payout by proportional to w", lines="without a; w of b in 1 .. 3")
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    small = _bonus_small(payout="payout by proportional to w",
+                         contingency='contingency "a leaves" { w of b in 1 .. 3 }')
+    want = check_contingency(small, small.contingencies[0], CheckOptions())
+    assert summary(got) == summary(want)
+    # x_b = 2 w_b / (w_b + 1) >= 1 = v({b}) and x_c = 2 / (w_b + 1) <= 1 = v({c}): c's excess
+    # 1 - 2 / (w_b + 1) is largest at w_b = 3, where it is 1/2 [derived]
+    core, budget = got
+    assert (core.status, core.worst_excess, budget.status) == (FAILS, F(1, 2), HOLDS)
+    assert core.counterexamples[0].coalition == ("c",) and core.counterexamples[0].parameters == {"w of b": F(3)}
+
+
+def test_lines_about_a_withdrawn_party_are_ignored():
+    # its attribute fixed or ranged, its payout line, the table rows and ranged worths naming it
+    rows = "worth {a, b} = 40\nworth {b, c} = 2"
+    lines = "w of a = 7; w of a in 1 .. 2; w of a in 3 .. 3; worth {a, c} in 0 .. 9; without a"
+    model = _bonus(rows=rows, payout="payout a = 3\npayout rest by proportional to w", lines=lines)
+    scenario = scenario_of(model, model.contingencies[0])
+    assert scenario.model.parties == ("b", "c") and scenario.ranged == [] and scenario.fixed == {}
+    assert scenario.notes == [
+        "`w of a` is ignored: the party has withdrawn",
+        "`w of a` is ignored: the party has withdrawn",
+        "`w of a` is ignored: the party has withdrawn",
+        "`worth {a, c}` is ignored: a member has withdrawn"]
+    got = check_contingency(model, model.contingencies[0], CheckOptions())
+    small = _bonus_small(rows="worth {b, c} = 2", payout="payout rest by proportional to w")
+    assert summary(got) == summary(Checker(small, CheckOptions()).run())
+
+
+def test_a_rule_left_with_nobody_to_share_among_is_a_failed_budget_not_a_crash():
+    # b and c have fixed lines; the rest rule shared among a alone, who leaves:
+    # worth(all) = 2 of the smaller game is paid 1/2 + 1/2, so 1 is left unpaid [derived]
+    model = _bonus(payout="payout b = 0.5\npayout c = 0.5\npayout rest by equal split")
+    core, budget = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert budget.status == FAILS and budget.worst_excess == F(1)
+    assert core.status == FAILS
+
+
+# ---------------------------------------------------------------- separable costs remaining benefits where sum r = 0
+
+ADDITIVE_SCRB = """\
+agreement "Additive"
+shares cost
+party p0: a 1
+party p1: a 2
+party p2: a 3
+worth S = sum(a in S)
+payout by separable costs remaining benefits
+contingency "r" { a of p0 in 0 .. 2 }
+require stable
+require individually rational
+require balanced budget
+"""
+
+
+def test_scrb_on_an_additive_game_under_a_range_holds():
+    # c(S) = sum of a: s_i = a_i, r_i = 0 everywhere and c(N) - sum s = 0, so the rule
+    # pays s_i (as `rules.separable_costs_remaining_benefits` does for fixed values)
+    # and every excess is 0 [derived]; it was unknown ("can be zero")
+    model = model_of(ADDITIVE_SCRB)
+    results = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert [(r.status, r.worst_excess) for r in results] == [(HOLDS, F(0))] * 3
+    assert results[0].worst_coalition == ("p0",)  # ties: the smallest coalition, then party order
+
+
+SCRB_ZERO_AT_A_POINT = """\
+agreement "Three sites"
+shares cost
+party p0
+party p1
+party p2
+worth {{p0}} = 1
+worth {{p1}} = 3
+worth {{p2}} = 3
+worth {{p1, p2}} = 4
+worth {{p0, p2}} = 4
+worth {{p0, p1}} = 4
+worth {{p0, p1, p2}} = {all}
+payout by separable costs remaining benefits
+contingency "r" {{ worth {{p0}} in {low} .. 4 }}
+require stable
+"""
+
+
+@pytest.mark.parametrize("low", ["0", "-1"])
+def test_scrb_where_the_remaining_benefits_add_up_to_zero_at_one_value(low):
+    # c(N) = 6: s_i = 6 - 4 = 2, c(N) - sum s = 0, r = (t - 2, 1, 1), sum r = t: zero at t = 0
+    # (inside the range) where the rule still pays s = (2, 2, 2). {p0} pays 2 against t, so the
+    # worst excess is 2 - low at t = low; pairs pay 4 = c(S) [derived]. With low = -1 sum r
+    # takes both signs.
+    model = model_of(SCRB_ZERO_AT_A_POINT.format(all="6", low=low))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.worst_coalition) == (FAILS, 2 - F(low), ("p0",))
+    c = r.counterexamples[0]
+    assert (c.coalition, c.excess, c.parameters) == (("p0",), 2 - F(low), {"worth {p0}": F(low)})
+    assert [c.coalition for c in r.counterexamples] == [("p0",)]
+
+
+def test_scrb_not_defined_somewhere_in_the_range_is_unknown_with_where():
+    # c(N) = 7: s_i = 3, c(N) - sum s = -2, r = (t - 3, 0, 0): sum r = 0 at t = 3 while
+    # something remains to share, where the rule has no value [derived]
+    model = model_of(SCRB_ZERO_AT_A_POINT.format(all="7", low="0"))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert r.status == UNKNOWN
+    assert r.reason == ("separable costs remaining benefits is not defined where the remaining benefits add up "
+                        "to zero and the non-separable part does not (at worth {p0} = 3)")
+
+
+# ---------------------------------------------------------------- a worst case on a threshold
+
+SCANNING = """\
+agreement "Regional scanning service"
+shares cost in kEUR
+party st_anne:   scans 4200
+party riverside: scans 3100
+party northgate: scans 2500
+party childrens: scans 900
+party hillcrest: scans 600
+worth S = 900 * (1 + (if sum(scans in S) > 6000 then 1 else 0) + (if sum(scans in S) {op} 12000 then 1 else 0)) + 0.05 * sum(scans in S) + 40 * count(S)
+worth {{st_anne}} = 1050
+payout childrens = 8%
+payout rest by proportional to scans
+contingency "volume growth" {{ scans of riverside in 3100 .. 4500 }}
+require stable
+"""
+
+# at riverside = 4400, {st_anne, riverside, northgate, childrens} reaches 12000 scans: c(S) = 1800 + 600 +
+# 160 = 2560 while c(N) = 2700 + 630 + 200 = 3530, childrens pays 282.4 and hillcrest 3247.6 * 600 / 11700;
+# the four pay 3530 - 3247.6 * 600 / 11700 = 655874/195, an excess of 156674/195 (~803.46) [derived]
+SCANNING_WORST = F(156674, 195)
+
+
+def _scanning_rows(r):
+    return [(c.coalition, c.excess, c.parameters["scans of riverside"]) for c in r.counterexamples]
+
+
+def test_a_worst_case_exactly_on_a_threshold_is_found_and_listed_first():
+    # it was "not settled", and the table started with an excess of ~368 at 4500
+    model = model_of(SCANNING.format(op=">"))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.method) == (FAILS, SCANNING_WORST, "z3 bisection")
+    assert r.worst_coalition == ("st_anne", "riverside", "northgate", "childrens")
+    rows = _scanning_rows(r)
+    assert rows[0] == (("st_anne", "riverside", "northgate", "childrens"), SCANNING_WORST, F(4400))
+    assert [e for _, e, _ in rows] == sorted((e for _, e, _ in rows), reverse=True)
+    # the next ones [derived the same way]: {st_anne, riverside, northgate, hillcrest} comes closer and
+    # closer to 705 as riverside falls to 3800 from above (c(N) steps up there), never reaching it;
+    # {st_anne, riverside, northgate} is worst at 4500 with 179016/295
+    assert rows[1][0] == ("st_anne", "riverside", "northgate", "hillcrest") and F(70499, 100) < rows[1][1] < 705
+    assert 3800 < rows[1][2] < F(38001, 10)
+    assert rows[2] == (("st_anne", "riverside", "northgate"), F(179016, 295), F(4500))
+    for c in r.counterexamples:
+        e, w = exact_excess_at(model, model.mask_of(c.coalition),
+                               attrs={("scans", "riverside"): c.parameters["scans of riverside"]})
+        assert (e, w) == (c.excess, c.worth) and e > 0
+
+
+def test_a_worst_case_at_the_open_side_of_a_threshold_is_a_supremum_not_attained():
+    # with `>=` the four-party cost steps up at 4400 itself: the excess comes arbitrarily close to
+    # 156674/195 from below 4400 and never reaches it [derived]
+    model = model_of(SCANNING.format(op=">="))
+    (r,) = check_contingency(model, model.contingencies[0], CheckOptions())
+    assert (r.status, r.worst_excess, r.method) == (FAILS, SCANNING_WORST, "z3 bisection (supremum not attained)")
+    rows = _scanning_rows(r)
+    assert rows[0][0] == ("st_anne", "riverside", "northgate", "childrens")
+    assert SCANNING_WORST - F(1, 100) < rows[0][1] < SCANNING_WORST and F(43999, 10) < rows[0][2] < 4400
+    # the second one now reaches its worst 705 at 3800, where c(N) has already stepped up [derived]
+    assert rows[1] == (("st_anne", "riverside", "northgate", "hillcrest"), F(705), F(3800))
+    assert [e for _, e, _ in rows] == sorted((e for _, e, _ in rows), reverse=True)

@@ -105,6 +105,15 @@ party a: size 1
 party b: size 2
 worth otherwise = 1
 """,
+    "drafting": """\
+agreement "Cold chain"
+shares cost in EUR
+parties from "members.csv"  # one row per member
+worth S = 50 + 2 * sum(pallets in S)
+payout by proportional to pallets
+round payouts to 0.01 by largest remainder
+require stable
+""",
     # Unfinished text: an unterminated string and an unclosed block must not
     # colour the lines after them.
     "unfinished": """\
@@ -144,6 +153,15 @@ EXPECTATIONS: list[tuple[str, str, str | None, str | None]] = [
     ("channel", "[payout] marina = 9", "keyword.other.payout.deal", "Statement"),
     ("channel", '[contingency] "deep-draft', "keyword.other.contingency.deal", "Statement"),
     ("channel", "[require] stable within 15", "keyword.other.require.deal", "Statement"),
+    ("drafting", "[parties from] \"members", None, "Statement"),
+    ("drafting", "[parties] from", "keyword.other.parties.deal", None),
+    ("drafting", "parties [from]", "keyword.other.from.deal", None),
+    ("drafting", '"[members.csv]"', "string.quoted.double.deal", "String"),
+    ("drafting", "csv\"  [# one row per member]", "comment.line.number-sign.deal", "Comment"),
+    ("drafting", "[round] payouts", "keyword.other.round.deal", "Statement"),
+    ("drafting", "round [payouts] to", "keyword.other.rounding.deal", "Keyword"),
+    ("drafting", "to [0.01] by", "constant.numeric.decimal.deal", "Number"),
+    ("drafting", "by [largest remainder]", "keyword.other.rounding.deal", "Keyword"),
     # other keywords
     ("channel", "shares [cost] in", "keyword.other.kind.deal", "Keyword"),
     ("bakeries", "shares [value] in", "keyword.other.kind.deal", "Keyword"),
@@ -212,9 +230,11 @@ EXPECTATIONS: list[tuple[str, str, str | None, str | None]] = [
     ("channel", "param [overrun]", "entity.name.variable.param.deal", "Identifier"),
     ("channel", "worth [S] =", "variable.parameter.coalition.deal", "Identifier"),
     ("channel", "in [kEUR]", "string.unquoted.unit.deal", "Identifier"),
-    ("channel", "north_quay: [draft] 12.5", "variable.other.property.deal", None),
-    ("bakeries", "ovens 3, [count] 4", "variable.other.property.deal", None),
-    ("cold_store", "size 3, [value] 2", "variable.other.property.deal", None),
+    ("channel", "north_quay: [draft] 12.5", "variable.other.property.deal", "Identifier"),
+    ("channel", "draft 12.5, [calls] 340", "variable.other.property.deal", "Identifier"),
+    ("bakeries", "rye:      [loaves] 120", "variable.other.property.deal", "Identifier"),
+    ("bakeries", "ovens 3, [count] 4", "variable.other.property.deal", "Identifier"),
+    ("cold_store", "size 3, [value] 2", "variable.other.property.deal", "Identifier"),
     ("channel", "max([draft] in S)", "variable.other.property.deal", None),
     ("channel", "proportional to [calls]", "variable.other.property.deal", None),
     ("channel", "{ [draft] of north_quay", "variable.other.property.deal", None),
@@ -533,7 +553,16 @@ def test_vim_group(vim_groups, sample, marked, group):
 
 
 def test_vim_attribute_named_like_a_keyword(vim_groups):
-    """`cost` and `value` are keywords only after `shares`, and count only when called."""
+    """`cost` and `value` are keywords only after `shares`, and count only when
+    called: in a party line they are attribute names like any other."""
     for sample, marked in (("bakeries", "ovens 3, [count] 4"), ("cold_store", "size 3, [value] 2")):
         line, start, end = _locate(sample, marked)
-        assert set(vim_groups["documents"][sample]["lines"][line][start:end]) == {""}, marked
+        assert set(vim_groups["documents"][sample]["lines"][line][start:end]) == {"dealAttributeName"}, marked
+
+
+def test_vim_party_line_numbers_and_commas_keep_their_groups(vim_groups):
+    """Only the names of a party line are attributes; the party name, values and commas keep their colours."""
+    for marked, group in (("party [north_quay]:", "dealPartyName"), ("draft [12.5], calls", "dealNumber"),
+                          ("draft 12.5[,] calls", "dealDelimiter"), ("calls [340]", "dealNumber")):
+        line, start, end = _locate("channel", marked)
+        assert set(vim_groups["documents"]["channel"]["lines"][line][start:end]) == {group}, marked

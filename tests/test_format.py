@@ -159,10 +159,10 @@ def test_fmt_rewrites_in_place_keeping_permissions(tmp_path: Path) -> None:
     assert result.returncode == 0, result.stderr
     assert target.read_text() == TIDY
     assert stat.S_IMODE(target.stat().st_mode) == 0o640
-    assert "reformatted a.deal" in result.stderr
+    assert "a.deal: rewritten in canonical layout" in result.stderr
     assert [p.name for p in tmp_path.iterdir()] == ["a.deal"]  # no temporary file left behind
     again = run_cli("a.deal", cwd=tmp_path)
-    assert again.returncode == 0 and "1 file already formatted" in again.stderr
+    assert again.returncode == 0 and "1 file: 1 already in canonical layout" in again.stderr
 
 
 def test_fmt_follows_symlinks(tmp_path: Path) -> None:
@@ -179,7 +179,7 @@ def test_check_lists_files_and_exits_1(tmp_path: Path) -> None:
     (tmp_path / "tidy.deal").write_text(TIDY)
     result = run_cli("--check", "messy.deal", "tidy.deal", cwd=tmp_path)
     assert result.returncode == 1
-    assert "would reformat messy.deal" in result.stderr and "tidy.deal" not in result.stderr.split("\n")[0]
+    assert "messy.deal: layout would change" in result.stderr and "tidy.deal" not in result.stderr.split("\n")[0]
     assert (tmp_path / "messy.deal").read_text() == MESSY
     assert run_cli("--check", "tidy.deal", cwd=tmp_path).returncode == 0
 
@@ -238,7 +238,7 @@ def test_directories_stand_for_their_deal_files(tmp_path: Path) -> None:
     (tmp_path / "sub" / "one.deal").write_text(MESSY)
     (tmp_path / "sub" / "notes.txt").write_text("not an agreement")
     result = run_cli("--check", "sub", cwd=tmp_path)
-    assert result.returncode == 1 and f"would reformat {Path('sub/one.deal')}" in result.stderr
+    assert result.returncode == 1 and f"{Path('sub/one.deal')}: layout would change" in result.stderr
 
 
 def test_internal_error_is_reported_with_exit_4(tmp_path: Path, monkeypatch) -> None:
@@ -253,7 +253,7 @@ def test_internal_error_is_reported_with_exit_4(tmp_path: Path, monkeypatch) -> 
     monkeypatch.chdir(tmp_path)
     out, err = io.StringIO(), io.StringIO()
     assert run_fmt(["a.deal"], FmtOptions(), out, err) == 4  # the tool failed, not the input
-    assert "a.deal: error: internal formatter error, file left unchanged" in err.getvalue()
+    assert "a.deal: error: the layout pass went wrong, so the file was left as it was" in err.getvalue()
     assert target.read_text() == source
 
 
@@ -442,7 +442,7 @@ def test_each_file_gets_its_own_result(tmp_path: Path) -> None:
     assert (tmp_path / "a.deal").read_text() == TIDY and (tmp_path / "c.deal").read_text() == TIDY
     assert (locked / "b.deal").read_text() == MESSY
     assert f"{Path('locked/b.deal')}:1:1: error:" in result.stderr
-    assert "2 files reformatted, 1 file failed" in result.stderr
+    assert "3 files: 2 rewritten, 1 left untouched (errors above)" in result.stderr
 
 
 def test_read_only_files_are_refused(tmp_path: Path) -> None:

@@ -90,6 +90,9 @@ CASES = [
     ("identical-contingencies", agreement(TWO + "worth S = count(S)\npayout by equal split\n"
                                           "contingency \"x\" { without a }\ncontingency \"y\" { without a }"),
      8, "contingency `y` has the same lines as `x`"),
+    ("unused-column", agreement(f'parties from "{HERE / "data" / "lint_members.csv"}"\n'
+                                "worth S = sum(w in S)\npayout by equal split"),
+     3, "column `region` of"),
 ]
 
 

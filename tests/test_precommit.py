@@ -88,7 +88,7 @@ def test_try_repo_runs_both_hooks(hook_repo, work: Path, tmp_path_factory) -> No
     out = result.stdout + result.stderr
     assert result.returncode == 1, out
     assert "pactlang fmt" in out and "files were modified by this hook" in out
-    assert "reformatted cold_store.deal" in out
+    assert "cold_store.deal: rewritten in canonical layout" in out
     assert (work / "cold_store.deal").read_text() == format_text(STABLE_MESSY)
     assert (work / "unstable.deal").read_text() == UNSTABLE  # already canonical: untouched
     check_part = out[out.index("pactlang check"):]

@@ -8,6 +8,7 @@ deadline, never assumed after a fixed sleep.
 from __future__ import annotations
 
 import asyncio
+import json
 import sys
 import tempfile
 from pathlib import Path
@@ -375,20 +376,39 @@ async def test_definition_of_party_attribute_and_param(client: LanguageClient):
     close_doc(client, uri)
 
 
-async def test_completion_offers_names_and_keywords_even_while_broken(client: LanguageClient):
+async def completion_labels(client: LanguageClient, uri: str, position: types.Position) -> dict:
+    result = await client.text_document_completion_async(types.CompletionParams(
+        text_document=types.TextDocumentIdentifier(uri=uri), position=position))
+    return {item.label: item for item in (result.items if isinstance(result, types.CompletionList) else result)}
+
+
+async def test_completion_depends_on_the_place_even_while_broken(client: LanguageClient):
     uri = open_doc(client, "completion", VAN)
     broken = VAN + "payout b"
     change_doc(client, uri, broken, 2)
     await diagnostics(client, uri, "syntax", "the syntax error of the unfinished line")
-    result = await client.text_document_completion_async(types.CompletionParams(
-        text_document=types.TextDocumentIdentifier(uri=uri), position=where(client, broken, "payout b", 8)))
-    items = {item.label: item for item in (result.items if isinstance(result, types.CompletionList) else result)}
-    for name, kind in [("bakery", "party"), ("dairy", "party"), ("loads", "attribute"), ("fuel", "param")]:
-        assert items[name].detail == kind
-    assert items["bakery"].kind == types.CompletionItemKind.Variable
-    for word in ("require", "stable", "within", "contingency", "shapley", "cost"):
-        assert items[word].kind == types.CompletionItemKind.Keyword
-    assert items["sum"].kind == types.CompletionItemKind.Function
+    # after `payout`: a party (names of the last text that parsed) or `by` / `rest by`
+    items = await completion_labels(client, uri, where(client, broken, "payout b", 8))
+    assert sorted(items) == ["bakery", "by", "dairy", "florist", "rest by"]
+    assert items["bakery"].kind == types.CompletionItemKind.Variable and items["bakery"].detail == "party"
+    assert items["rest by"].kind == types.CompletionItemKind.Keyword
+    # inside a coalition's braces: the parties not yet listed
+    items = await completion_labels(client, uri, where(client, broken, "bakery, dairy} = 52", len("bakery, ")))
+    assert sorted(items) == ["dairy", "florist"]
+    # after `by`: the rules in full
+    items = await completion_labels(client, uri, where(client, broken, "proportional to loads"))
+    assert sorted(items) == ["equal split", "nucleolus", "proportional to", "separable costs remaining benefits",
+                             "shapley"]
+    # after `proportional to`: attributes
+    items = await completion_labels(client, uri, where(client, broken, "loads\n\ncontingency"))
+    assert sorted(items) == ["loads"] and items["loads"].kind == types.CompletionItemKind.Field
+    # at the start of a line: the statement words
+    items = await completion_labels(client, uri, where(client, broken, "require individually"))
+    assert sorted(items) == ["agreement", "contingency", "param", "party", "payout", "require", "shares", "worth"]
+    # a formula: names, functions and expression words
+    items = await completion_labels(client, uri, where(client, broken, "48 + fuel"))
+    assert items["fuel"].detail == "param" and items["sum"].kind == types.CompletionItemKind.Function
+    assert "if" in items and "require" not in items
     close_doc(client, uri)
 
 
@@ -405,3 +425,260 @@ async def test_serve_without_pygls_says_what_to_install():
     assert process.returncode == 2
     assert "install pactlang[editor]" in err.decode()
     assert out == b""
+
+
+# ---------------------------------------------------------------- bounded work, no stale results
+
+
+def party_lines(buses: list[int]) -> str:
+    return "".join(f"party op{i:02d}: buses {b}\n" for i, b in enumerate(buses))
+
+
+def yard(buses: list[int], rule: str = "nucleolus") -> str:
+    """24 bus operators share a yard; the nucleolus of 24 parties takes the
+    payout rule seconds and hundreds of megabytes, so unfinished work shows."""
+    return ('agreement "Shared yard"\nshares cost in kEUR\n\n' + party_lines(buses)
+            + "\nworth S = 8 * max(buses in S) + 20 * count(S)\n\n"
+            + f"payout by {rule}\n\nrequire stable\nrequire individually rational\n")
+
+
+YARD_BUSES = [10 + (i * 7) % 31 for i in range(24)]
+
+
+def process_tree(pid: int) -> list[int]:
+    """`pid` and every process below it (Linux /proc)."""
+    children: dict[int, list[int]] = {}
+    for entry in Path("/proc").iterdir():
+        if entry.name.isdigit():
+            try:
+                stat = (entry / "stat").read_text()
+            except OSError:
+                continue
+            parent = int(stat[stat.rindex(")") + 2:].split()[1])
+            children.setdefault(parent, []).append(int(entry.name))
+    tree, todo = [], [pid]
+    while todo:
+        tree.append(todo.pop())
+        todo.extend(children.get(tree[-1], []))
+    return tree
+
+
+def status_field(pid: int, name: str) -> int:
+    """A number from /proc/PID/status (kB for memory), 0 once the process is gone."""
+    try:
+        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+            if line.startswith(name + ":"):
+                return int(line.split()[1])
+    except OSError:
+        pass
+    return 0
+
+
+def tree_rss_mb(pid: int) -> float:
+    return sum(status_field(p, "VmRSS") for p in process_tree(pid)) / 1024
+
+
+def alive(pid: int) -> bool:
+    try:
+        return "\nState:\tZ" not in Path(f"/proc/{pid}/status").read_text()
+    except OSError:
+        return False
+
+
+@pytest_lsp.fixture(
+    scope="module",
+    config=ClientServerConfig(server_command=[sys.executable, "-m", "pactlang", "serve", "--time-limit", "20"],
+                              client_factory=make_client),
+)
+async def heavy_client(lsp_client: LanguageClient):
+    """A server of its own, so that its memory and processes are this test's alone."""
+    result = await lsp_client.initialize_session(types.InitializeParams(
+        capabilities=client_capabilities("neovim@v0.11.0"), root_uri=FOLDER.as_uri()))
+    lsp_client.encoding = result.capabilities.position_encoding or types.PositionEncodingKind.Utf16
+    yield
+    await lsp_client.shutdown_session()
+
+
+needs_proc = pytest.mark.skipif(not Path("/proc/self/status").exists(), reason="reads memory from Linux /proc")
+
+
+@needs_proc
+async def test_a_hundred_edits_with_hovers_keep_memory_flat_and_publish_only_the_last_version(
+        heavy_client: LanguageClient):
+    client = heavy_client
+    server = client._server.pid
+    uri = open_doc(client, "yard", yard(YARD_BUSES))
+    hover_at = where(client, yard(YARD_BUSES), "op03")
+
+    async def hover() -> str:
+        return markdown(await client.text_document_hover_async(types.HoverParams(
+            text_document=types.TextDocumentIdentifier(uri=uri), position=hover_at)))
+
+    # warm up: the payout job starts the worker and loads the solvers
+    assert "**party** `op03`" in await hover()
+    await asyncio.sleep(1.0)
+    before = tree_rss_mb(server)
+    threads_before = status_field(server, "Threads")
+
+    # edit-and-hover pairs as a user types: every edit supersedes the last
+    # version, whose payout job (started by the hover) must stop, not pile up;
+    # every twentieth pause lets the nucleolus get going before it is stopped
+    hovers = []
+    for version in range(2, 102):
+        buses = list(YARD_BUSES)
+        buses[version % 24] += version
+        change_doc(client, uri, yard(buses), version)
+        hovers.append(asyncio.ensure_future(hover()))
+        await asyncio.sleep(1.5 if version % 20 == 0 else 0.05)
+    answered = await asyncio.wait_for(asyncio.gather(*hovers), DEADLINE)
+    assert all(text.startswith("**party** `op03`") for text in answered)
+    peak = tree_rss_mb(server)
+    threads = status_field(server, "Threads")
+    assert len([p for p in process_tree(server) if alive(p)]) <= 2, "more than one worker process is running"
+
+    # the last version pays by loads: cheap to check, and its verdict (`stable` fails) is its own
+    final = 102
+    change_doc(client, uri, yard(YARD_BUSES, "proportional to buses"), final)
+    published = await until(lambda: next((p for p in client.published if p.uri == uri and p.version == final
+                                          and any(d.code == "requirement-fails" for d in p.diagnostics)), None),
+                            "the verdicts of the final version")
+    after = tree_rss_mb(server)
+    mine = [p.version for p in client.published if p.uri == uri]
+    assert mine == sorted(mine), f"an older version was published after a newer one: {mine}"
+    assert [p.version for p in client.published if p.uri == uri][-1] == final
+    assert published.diagnostics[0].message.startswith("`stable` fails")
+    print(f"server and worker RSS: {before:.0f} MB before, {peak:.0f} MB after 100 edits, {after:.0f} MB "
+          f"after the final check; server threads {threads_before} -> {threads}")
+    # the old server ran every payout in a thread of its own: gigabytes and a thread per hover
+    assert peak < before + 250 and after < before + 250
+    assert threads <= threads_before + 2
+    close_doc(client, uri)
+
+
+@needs_proc
+async def test_closing_a_document_stops_its_running_work(heavy_client: LanguageClient):
+    client = heavy_client
+    server = client._server.pid
+    text = yard([b + 1 for b in YARD_BUSES])
+    uri = open_doc(client, "yard_closed", text)
+    hover = markdown(await client.text_document_hover_async(types.HoverParams(
+        text_document=types.TextDocumentIdentifier(uri=uri), position=where(client, text, "op05"))))
+    assert "still being computed" in hover  # the nucleolus of 24 parties takes longer than a hover waits
+    workers = [p for p in process_tree(server) if p != server and alive(p)]
+    assert len(workers) == 1, "the payouts should run in one worker process"
+    close_doc(client, uri)
+    await until(lambda: not alive(workers[0]), "the worker to be stopped after didClose")
+
+
+# ---------------------------------------------------------------- a crash in the analysis
+
+CRASHING_SERVER = """
+import sys
+import pactlang.server as server
+real = server.analyse
+def analyse(uri, version, text, path):
+    if "crash here" in text:
+        raise RecursionError("maximum recursion depth exceeded")
+    return real(uri, version, text, path)
+server.analyse = analyse
+sys.argv = ["pactlang", "serve", "--check-delay", "0"]
+from pactlang.cli import main
+main()
+"""
+
+
+@pytest_lsp.fixture(
+    scope="module",
+    config=ClientServerConfig(server_command=[sys.executable, "-c", CRASHING_SERVER], client_factory=make_client),
+)
+async def crashing_client(lsp_client: LanguageClient):
+    """A server whose analysis crashes on any text with `crash here` in it."""
+    result = await lsp_client.initialize_session(types.InitializeParams(
+        capabilities=client_capabilities("neovim@v0.11.0"), root_uri=FOLDER.as_uri()))
+    lsp_client.encoding = result.capabilities.position_encoding or types.PositionEncodingKind.Utf16
+    yield
+    await lsp_client.shutdown_session()
+
+
+async def test_a_crash_in_the_analysis_replaces_the_old_versions_results(crashing_client: LanguageClient):
+    client = crashing_client
+    uri = open_doc(client, "crash", VAN)
+    await diagnostics(client, uri, "requirement-fails", "the failing requirement")
+    crashed = VAN + "# crash here\n"
+    change_doc(client, uri, crashed, 2)
+    published = await until(lambda: next((p for p in client.published if p.uri == uri and p.version == 2), None),
+                            "the diagnostics of the version that crashed")
+    assert [(d.code, d.severity) for d in published.diagnostics] == [("internal", types.DiagnosticSeverity.Error)]
+    assert published.diagnostics[0].message.startswith("the analysis stopped with an internal error (RecursionError")
+    # no hover on text that is gone
+    hover = await client.text_document_hover_async(types.HoverParams(
+        text_document=types.TextDocumentIdentifier(uri=uri), position=where(client, crashed, "bakery")))
+    assert hover is None
+    await asyncio.sleep(0.5)  # a late verdict of version 1 would arrive now
+    assert [p.version for p in client.published if p.uri == uri][-1] == 2
+    close_doc(client, uri)
+
+
+# ---------------------------------------------------------------- invalid requests
+
+
+class RawClient:
+    """A bare JSON-RPC client that sends what a typed client cannot: malformed parameters."""
+
+    def __init__(self, process: asyncio.subprocess.Process):
+        self.process, self.next_id = process, 0
+
+    def send(self, message: dict) -> None:
+        body = json.dumps({"jsonrpc": "2.0", **message}).encode()
+        self.process.stdin.write(b"Content-Length: %d\r\n\r\n" % len(body) + body)
+
+    async def receive(self) -> dict:
+        length = 0
+        while (line := await self.process.stdout.readline()) != b"\r\n":
+            if line.lower().startswith(b"content-length:"):
+                length = int(line.split(b":")[1])
+        return json.loads(await self.process.stdout.readexactly(length))
+
+    async def request(self, method: str, params) -> dict:
+        self.next_id += 1
+        self.send({"id": self.next_id, "method": method, **({} if params is None else {"params": params})})
+        while (answer := await self.receive()).get("id") != self.next_id:
+            pass
+        return answer
+
+
+INVALID_REQUESTS = [
+    ("textDocument/hover", {"textDocument": {"uri": "file:///x.deal"}}, "invalid parameters for `textDocument/hover`"),
+    ("textDocument/hover", None, "invalid parameters for `textDocument/hover`"),
+    ("textDocument/completion", {"textDocument": {"uri": "file:///x.deal"}, "position": {"line": -1, "character": 0}},
+     "invalid parameters for `textDocument/completion`"),
+    ("textDocument/definition", {"textDocument": {"uri": "file:///no/such/folder/x.deal"},
+                                 "position": {"line": 0, "character": 0}},
+     "the document `file:///no/such/folder/x.deal` is not open and cannot be read: No such file or directory"),
+    ("textDocument/formatting", {"textDocument": {"uri": "file:///no/such/folder/x.deal"},
+                                 "options": {"tabSize": 4, "insertSpaces": True}},
+     "the document `file:///no/such/folder/x.deal` is not open and cannot be read: No such file or directory"),
+]
+
+
+async def test_requests_with_invalid_parameters_get_an_error_answer():
+    process = await asyncio.create_subprocess_exec(
+        sys.executable, "-m", "pactlang", "serve", stdin=asyncio.subprocess.PIPE, stdout=asyncio.subprocess.PIPE,
+        stderr=asyncio.subprocess.DEVNULL)
+    raw = RawClient(process)
+    try:
+        await asyncio.wait_for(raw.request("initialize", {"processId": None, "rootUri": None, "capabilities": {}}),
+                               DEADLINE)
+        raw.send({"method": "initialized", "params": {}})
+        for method, params, message in INVALID_REQUESTS:
+            answer = await asyncio.wait_for(raw.request(method, params), DEADLINE)
+            assert answer.get("error") == {"code": -32602, "message": message}, (method, params)
+        # the server still answers a good request afterwards
+        answer = await asyncio.wait_for(raw.request("shutdown", None), DEADLINE)
+        assert answer == {"jsonrpc": "2.0", "id": raw.next_id, "result": None}
+        raw.send({"method": "exit"})
+        await asyncio.wait_for(process.wait(), DEADLINE)
+    finally:
+        if process.returncode is None:
+            process.kill()
+            await process.wait()

@@ -200,3 +200,105 @@ def test_multipliers_found_on_the_dual_support(ws):
         mp.setattr(lp._Solver, "_dual_from_basis", lambda self, *a: None)
         assert least_core(game).value == want_lc.value
         assert nucleolus(game) == want_nu
+
+
+# -- the one door to HiGHS ------------------------------------------------------------
+def test_highs_lp_point_duals_and_basis_match_linprog():
+    from scipy.optimize import linprog
+    from scipy.sparse import csr_matrix
+
+    from pactlang.solutions import highs
+
+    c = [1.0, 2.0, 3.0]
+    a_ub, b_ub = np.array([[-1.0, -1.0, 0.0], [-1.0, 0.0, -1.0]]), [-2.0, -1.0]
+    a_eq, b_eq = np.array([[1.0, 1.0, 1.0]]), [3.0]
+    ref = linprog(c, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq, method="highs-ds")
+    a = np.vstack([a_ub, a_eq])
+    for form in (a, csr_matrix(a), (a[a != 0], np.nonzero(a))):
+        got = highs.solve(c, form, [-np.inf, -np.inf, 3.0], [-2.0, -1.0, 3.0], 0.0, None)
+        assert got.status == "optimal"
+        assert np.allclose(got.x, ref.x) and np.isclose(got.objective, ref.fun)
+        # linprog's marginals are HiGHS's row duals; its residuals are b_ub - A_ub x.
+        assert np.allclose(got.row_dual, np.r_[ref.ineqlin.marginals, ref.eqlin.marginals])
+        assert np.allclose(np.array(b_ub) - got.row_value[:2], ref.ineqlin.residual)
+        assert got.col_basic.sum() + got.row_basic.sum() == 3  # a basis: one basic variable per row
+
+
+def test_highs_statuses_and_integer_programs():
+    from pactlang.solutions import highs
+
+    assert highs.solve([0.0, 0.0], np.array([[1.0, 1.0]]), [3.0], [2.0]).status == "infeasible"
+    assert highs.solve([-1.0, 0.0], np.array([[1.0, 1.0]]), [3.0], None).status == "unbounded"
+    # max x0 + x1 with x0 + 2 x1 <= 2, 3 x0 + x1 <= 3, integers: (1, 0) or (0, 1), value 1.
+    got = highs.solve([-1.0, -1.0], np.array([[1.0, 2.0], [3.0, 1.0]]), None, [2.0, 3.0], integrality=[1, 1],
+                      options={"mip_rel_gap": 0.0})
+    assert got.status == "optimal" and got.objective == -1.0 and sorted(got.x.round()) == [0.0, 1.0]
+    with pytest.raises(ValueError, match="rejects option"):
+        highs.solve([1.0], np.array([[1.0]]), [0.0], None, options={"no such option": 1})
+
+
+def test_highs_reached_without_importing_scipy_optimize():
+    import subprocess
+    import sys
+
+    # Loaded from its file (the package's __init__ imports the LP engine, which still uses linprog).
+    code = ("import importlib.util, sys\n"
+            "spec = importlib.util.spec_from_file_location('h', 'pactlang/solutions/highs.py')\n"
+            "h = importlib.util.module_from_spec(spec); sys.modules['h'] = h; spec.loader.exec_module(h)\n"
+            "assert h.solve([1.0], [[1.0]], [1.0], None).status == 'optimal'\n"
+            "print('scipy.optimize' in sys.modules)\n")
+    root = __file__.rsplit("/tests/", 1)[0]
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=root, check=True)
+    assert out.stdout.strip() == "False"
+
+
+# -- fraction-free elimination ----------------------------------------------------------
+small_fractions = st.fractions(-6, 6, max_denominator=4)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1, 6).flatmap(lambda k: st.tuples(
+    st.lists(st.lists(small_fractions | st.just(F(0)), min_size=k, max_size=k), min_size=k, max_size=k),
+    st.lists(small_fractions, min_size=k, max_size=k))))
+def test_square_solve_is_exact_or_reports_singular(system):
+    a, b = system
+    x = solve(a, b)
+    if x is None:
+        assert null_space(a, len(a))  # singular: a nonzero kernel vector exists
+    else:
+        assert all(sum(r * v for r, v in zip(row, x)) == rhs for row, rhs in zip(a, b))
+        assert not null_space(a, len(a))
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1, 7).flatmap(lambda n: st.tuples(
+    st.just(n), st.lists(st.lists(st.integers(-3, 3), min_size=n, max_size=n), max_size=6))))
+def test_null_space_is_an_integer_basis_of_the_kernel(data):
+    n, rows = data
+    basis = null_space(rows, n)
+    span = Span(n)
+    rank = sum(1 for r in rows if span.add(r))
+    assert len(basis) == n - rank
+    assert all(isinstance(v, int) for vec in basis for v in vec)
+    assert all(sum(r * v for r, v in zip(row, vec)) == 0 for row in rows for vec in basis)
+    independent = Span(n)
+    assert all(independent.add(vec) for vec in basis)
+    assert span.kernel() == basis and span.kernel() is not span.kernel()  # cached, handed out as copies
+
+
+def test_excess_levels_in_batches_match_a_full_sort():
+    # 2**13 - 2 coalitions with many distinct excesses and ties: the levels come in
+    # several doubling batches, and must equal grouping a full sort.
+    rng = np.random.default_rng(5)
+    n = 13
+    nums = rng.integers(0, 60, size=1 << n).astype(np.int64)
+    nums[0] = 0
+    game = Game(n, lambda m: F(int(nums[m])), nums.astype(np.float64), (nums, 1), tuple(f"p{i}" for i in range(n)))
+    x = [F(int(v), 3) for v in rng.integers(0, 40, size=n)]
+    got = list(ExcessTable(game, x).levels())
+    brute: dict = {}
+    for m in range(1, (1 << n) - 1):
+        e = F(int(nums[m])) - sum((x[i] for i in range(n) if m >> i & 1), F(0))
+        brute.setdefault(e, []).append(m)
+    assert got == sorted(brute.items(), key=lambda p: -p[0])
+    assert len(got) > 300

@@ -21,6 +21,7 @@ class OutputFormat(str, Enum):
     text = "text"
     json = "json"
     sarif = "sarif"
+    markdown = "markdown"
 
 
 def check(
@@ -29,6 +30,9 @@ def check(
     top: int = typer.Option(5, "--top", min=1, help="Counterexamples per requirement, worst first."),
     time_limit: float = time_limit_option(),
     quiet: bool = typer.Option(False, "--quiet", help="No progress output."),
+    digits: int = typer.Option(None, "--digits", min=0, max=12, help="Decimals of amounts in text (default: enough to tell a table's numbers apart)."),
+    exact: bool = typer.Option(False, "--exact", help="Exact amounts (fractions) in text."),
+    full: bool = typer.Option(False, "--full", help="List every member of large coalitions."),
 ) -> None:
     """Check every requirement of the agreements, in the baseline and each contingency."""
     from ..check import CheckOptions
@@ -59,12 +63,21 @@ def check(
 
         print(json.dumps(render_sarif(run, models), indent=2))
     else:
-        from ..render_text import render_diagnostics, render_text, use_colour
+        from ..report.tables import RenderOptions
 
-        problems = render_diagnostics(run, colour=use_colour(sys.stderr))
-        if problems:
-            print("\n".join(problems), file=sys.stderr)
-        print(render_text(run, colour=use_colour(sys.stdout), diagnostics=False))
+        options = RenderOptions(digits=digits, exact=exact, full=full, time_limit=time_limit)
+        if format is OutputFormat.markdown:
+            from ..render_markdown import render_markdown
+
+            print(render_markdown(run, models, options))
+        else:
+            from ..render_text import render_diagnostics, render_text, use_colour
+
+            problems = render_diagnostics(run, colour=use_colour(sys.stderr))
+            if problems:
+                print("\n".join(problems), file=sys.stderr)
+            print(render_text(run, colour=use_colour(sys.stdout), models=models, options=options,
+                              diagnostics=False))
     raise typer.Exit(exit_code(run))
 
 

@@ -33,8 +33,8 @@ def _paint(text: str, code: str, colour: bool) -> str:
     return f"\x1b[{code}m{text}\x1b[0m" if colour else text
 
 
-def _plural(n: int, word: str) -> str:
-    return f"{n} file{'s' if n != 1 else ''} {word}"
+def _files(n: int) -> str:
+    return f"{n} file{'s' if n != 1 else ''}"
 
 
 def _emit(out, text: str) -> None:
@@ -93,7 +93,7 @@ def run_fmt(paths: list[str], options: FmtOptions, out=None, err=None) -> int:
                 print(_paint(d.render(label), "31", colour), file=err)
             if outcome.internal:
                 internal += 1
-                print(_paint(f"{label}: error: internal formatter error, file left unchanged: "
+                print(_paint(f"{label}: error: the layout pass went wrong, so the file was left as it was: "
                              f"{outcome.internal}", "31", colour), file=err)
                 print(f"  help: {REPORT_HELP}", file=err)
             if path == STDIN and outcome.original is not None and options.write:
@@ -108,15 +108,14 @@ def run_fmt(paths: list[str], options: FmtOptions, out=None, err=None) -> int:
         if path == STDIN and options.write:
             _emit(out, outcome.formatted)  # a filter: the result goes to standard output
         elif outcome.status == "changed" and not options.diff:
-            verb = "would reformat" if options.check else "reformatted"
-            print(_paint(f"{verb} {label}", "1", colour), file=err)
-    verb = "would be reformatted" if not options.write else "reformatted"
-    parts = [_plural(changed, verb)] if changed else []
+            what = "layout would change" if options.check else "rewritten in canonical layout"
+            print(_paint(f"{label}: {what}", "1", colour), file=err)
+    parts = [f"{changed} {'to rewrite' if not options.write else 'rewritten'}"] if changed else []
     if unchanged or not (changed or failed):
-        parts.append(_plural(unchanged, "already formatted"))
+        parts.append(f"{unchanged} already in canonical layout")
     if failed:
-        parts.append(_paint(_plural(failed, "failed"), "31", colour))
-    print(", ".join(parts), file=err)
+        parts.append(_paint(f"{failed} left untouched (errors above)", "31", colour))
+    print(f"{_files(changed + unchanged + failed)}: " + ", ".join(parts), file=err)
     if internal:
         return EXIT_INTERNAL
     if failed:

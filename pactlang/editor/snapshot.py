@@ -2,8 +2,8 @@
 
 Parsing, name resolution and lint run at once (`analyse`); the stability
 check (`run_check`) and the baseline payouts (`compute_payouts`) are slower
-and are run by the server in the background, which then records them on the
-snapshot. Nothing here knows the editor protocol.
+and run in the server's worker process (`editor.worker`); the server then
+records them on the snapshot. Nothing here knows the editor protocol.
 """
 
 from __future__ import annotations

@@ -20,7 +20,7 @@ from ..diagnostics import Diagnostic
 from ..model import Model
 from .context import MAX_PAIRS_PARTIES, LintContext
 from .contingencies import check_contingencies
-from .names import check_uneven_attributes, check_unused_attributes, check_unused_params
+from .names import check_uneven_attributes, check_unused_attributes, check_unused_columns, check_unused_params
 from .payouts import check_payout_magnitude, check_proportional_weights, check_shares
 from .requirements import check_requirements
 from .rules import RULES, WHOLE_FILE, LintRule
@@ -30,7 +30,7 @@ __all__ = ["CHECKS", "MAX_PAIRS_PARTIES", "RULES", "WHOLE_FILE", "LintRule", "li
 
 # Run in this order: findings at the same place and with the same code keep it.
 CHECKS = (
-    check_unused_attributes, check_unused_params, check_uneven_attributes, check_proportional_weights,
+    check_unused_attributes, check_unused_columns, check_unused_params, check_uneven_attributes, check_proportional_weights,
     check_shares, check_payout_magnitude, check_redundant_worths, check_unreachable_worths,
     check_superadditivity, check_requirements, check_contingencies,
 )

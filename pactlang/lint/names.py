@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import difflib
 
+from .. import ast
 from .context import LintContext
 from .rules import RULES, diag
 
@@ -22,6 +23,18 @@ def check_unused_attributes(ctx: LintContext):
         hint = _did_you_mean(name, read & set(ctx.declared_attributes))
         yield diag("unused-attribute", f"attribute `{name}` is never used", first.name.span,
                     RULES["unused-attribute"].help + hint)
+
+
+def check_unused_columns(ctx: LintContext):
+    """Columns of `parties from` files that nothing reads (party lines are `unused-attribute`)."""
+    sources = ctx.of(ast.PartiesFrom)
+    if ctx.model is None or not sources:
+        return
+    read, written = ctx.attributes_read, set(ctx.declared_attributes)
+    for name in ctx.model.attributes:
+        if name not in read and name not in written:
+            yield diag("unused-column", f"column `{name}` of `{sources[0].path}` is never used", sources[0].span,
+                       RULES["unused-column"].help)
 
 
 def check_unused_params(ctx: LintContext):

@@ -16,26 +16,40 @@ Vector = list[Fraction]
 
 
 def solve(matrix: Sequence[Sequence], rhs: Sequence) -> Vector | None:
-    """The unique solution of a square system, or None when it is singular."""
+    """The unique solution of a square system, or None when it is singular.
+
+    Fraction-free (Bareiss) elimination on rows scaled to integers: every
+    division is exact, and integers are far cheaper than Fractions; only the
+    back substitution uses Fractions.
+    """
     size = len(matrix)
-    rows = [[Fraction(v) for v in row] + [Fraction(b)] for row, b in zip(matrix, rhs)]
+    rows = []
+    for row, b in zip(matrix, rhs):
+        vals = [Fraction(v) for v in row] + [Fraction(b)]
+        den = lcm(*(v.denominator for v in vals))
+        rows.append([v.numerator * (den // v.denominator) for v in vals])
+    prev = 1
     for col in range(size):
         piv = next((r for r in range(col, size) if rows[r][col] != 0), None)
         if piv is None:
             return None
         rows[col], rows[piv] = rows[piv], rows[col]
         p = rows[col]
-        inv = 1 / p[col]
-        for k in range(col, size + 1):
-            p[k] *= inv
-        for r in range(size):
-            if r != col and rows[r][col] != 0:
-                f = rows[r][col]
-                row = rows[r]
-                for k in range(col, size + 1):
-                    if p[k]:
-                        row[k] -= f * p[k]
-    return [rows[r][size] for r in range(size)]
+        pc = p[col]
+        for r in range(col + 1, size):
+            row = rows[r]
+            f = row[col]
+            if f:
+                row[col:] = [(pc * a - f * b) // prev for a, b in zip(row[col:], p[col:])]
+            elif pc != prev:
+                row[col:] = [pc * a // prev for a in row[col:]]
+        prev = pc
+    x: Vector = [Fraction(0)] * size
+    for i in range(size - 1, -1, -1):
+        row = rows[i]
+        acc = Fraction(row[size]) - sum((row[j] * x[j] for j in range(i + 1, size) if row[j]), Fraction(0))
+        x[i] = acc / row[i]
+    return x
 
 
 def _primitive(vec: list[int]) -> list[int]:
@@ -51,6 +65,7 @@ class Span:
     def __init__(self, size: int):
         self.size = size
         self._rows: list[tuple[int, list[int]]] = []  # (pivot column, reduced row)
+        self._kernel: list[list[int]] | None = None  # cached until the next add
 
     @property
     def rank(self) -> int:
@@ -75,16 +90,28 @@ class Span:
         if col is None:
             return False
         self._rows.append((col, v))
+        self._kernel = None
         return True
 
     def kernel(self) -> list[list[int]]:
-        """An integer basis of the vectors orthogonal to the span."""
-        return null_space([row for _, row in self._rows], self.size)
+        """An integer basis of the vectors orthogonal to the span (a fresh list each call)."""
+        if self._kernel is None:
+            self._kernel = null_space([row for _, row in self._rows], self.size)
+        return [list(v) for v in self._kernel]
 
 
 def null_space(rows: Sequence[Sequence], size: int) -> list[list[int]]:
-    """An integer basis of {z : row . z = 0 for every row}."""
-    mat = [[Fraction(v) for v in row] for row in rows]
+    """An integer basis of {z : row . z = 0 for every row}.
+
+    Reduced row echelon form kept in integers (each row primitive), so no
+    Fraction arithmetic: the kernel vector of a free column f has L at f and
+    -row[f] * L / row[pivot] at each pivot, L the lcm of those pivots.
+    """
+    mat: list[list[int]] = []
+    for row in rows:
+        vals = [Fraction(v) for v in row]
+        den = lcm(*(v.denominator for v in vals)) if vals else 1
+        mat.append([v.numerator * (den // v.denominator) for v in vals])
     pivots: list[int] = []
     r = 0
     for col in range(size):
@@ -92,22 +119,24 @@ def null_space(rows: Sequence[Sequence], size: int) -> list[list[int]]:
         if piv is None:
             continue
         mat[r], mat[piv] = mat[piv], mat[r]
-        inv = 1 / mat[r][col]
-        mat[r] = [v * inv for v in mat[r]]
+        p = mat[r] = _primitive(mat[r])
+        a = p[col]
         for i in range(len(mat)):
             if i != r and mat[i][col] != 0:
-                f = mat[i][col]
-                mat[i] = [a - f * b for a, b in zip(mat[i], mat[r])]
+                b = mat[i][col]
+                mat[i] = _primitive([a * x - b * y for x, y in zip(mat[i], p)])
         pivots.append(col)
         r += 1
     basis = []
-    for free in (c for c in range(size) if c not in pivots):
-        vec = [Fraction(0)] * size
-        vec[free] = Fraction(1)
-        for i, col in enumerate(pivots):
-            vec[col] = -mat[i][free]
-        den = lcm(*(v.denominator for v in vec))
-        basis.append(_primitive([int(v * den) for v in vec]))
+    pivot_set = set(pivots)
+    for free in (c for c in range(size) if c not in pivot_set):
+        used = [(i, col) for i, col in enumerate(pivots) if mat[i][free]]
+        big = lcm(*(abs(mat[i][col]) for i, col in used)) if used else 1
+        vec = [0] * size
+        vec[free] = big
+        for i, col in used:
+            vec[col] = -mat[i][free] * (big // mat[i][col])
+        basis.append(_primitive(vec))
     return basis
 
 

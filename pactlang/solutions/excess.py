@@ -143,17 +143,28 @@ class ExcessTable:
             nums = np.concatenate(parts)
             masks = np.flatnonzero(np.concatenate(keep))
             vals = nums[masks]
-            order = np.argsort(vals, kind="stable")[::-1]
+            # Callers usually stop after a few levels: sort only the top values,
+            # a batch at a time (doubling, so a full walk stays n log n), each
+            # batch holding every value down to its smallest, ties included.
             block = 4096
             current, members = None, []
-            for lo in range(0, len(order), block):
-                sel = order[lo : lo + block]
-                for m, v in zip(masks[sel].tolist(), vals[sel].tolist()):
+            while len(vals):
+                if len(vals) > block and vals.dtype != object:
+                    cut = vals[np.argpartition(vals, len(vals) - block)[len(vals) - block]]
+                    sel = np.flatnonzero(vals >= cut)
+                else:
+                    sel = np.arange(len(vals))
+                order = sel[np.argsort(vals[sel], kind="stable")[::-1]]
+                for m, v in zip(masks[order].tolist(), vals[order].tolist()):
                     if v != current:
                         if members:
                             yield Fraction(current, self.den), sorted(members)
                         current, members = v, []
                     members.append(m)
+                rest = np.ones(len(vals), dtype=bool)
+                rest[sel] = False
+                masks, vals = masks[rest], vals[rest]
+                block *= 2
             if members:
                 yield Fraction(current, self.den), sorted(members)
             return

@@ -20,12 +20,17 @@ syn match dealEscape contained +\\[\\"]+
 syn region dealString start=+"+ skip=+\\[\\"]+ end=+"+ end=+$+ contains=dealEscape,@Spell
 
 " Statements. A declaration highlights the name it introduces.
-syn keyword dealStatement agreement contingency require
+syn keyword dealStatement agreement contingency require round
+" parties from "FILE.csv": the party list read from a file.
+syn match dealStatement "\<parties\s\+from\>"
 syn keyword dealStatement party nextgroup=dealPartyName skipwhite
 syn keyword dealStatement param nextgroup=dealParamName skipwhite
 syn keyword dealStatement payout nextgroup=dealPartyRef skipwhite
 syn keyword dealStatement worth nextgroup=dealCoalitionName skipwhite
 syn match dealPartyName contained "\h\w*"
+" party NAME: ATTR VALUE, ATTR VALUE: every name after the colon or a comma is
+" an attribute, even one spelled like a function (count) or a share kind (value).
+syn match dealAttributeName "\%(^\s*party\s\+\h\w*\s*:\%([^#]*,\)\=\s*\)\@<=\h\w*"
 syn match dealParamName contained "\h\w*"
 " payout NAME = ... and without NAME refer to a party (rest and by are keywords).
 syn match dealPartyRef contained "\%(\<\%(rest\|by\)\>\)\@!\h\w*"
@@ -50,6 +55,9 @@ syn keyword dealRule shapley nucleolus
 syn match dealRule "\<equal\s\+split\>"
 syn match dealRule "\<proportional\s\+to\>"
 syn match dealRule "\<separable\s\+costs\s\+remaining\s\+benefits\>"
+" round payouts to STEP by largest remainder
+syn keyword dealKeyword payouts
+syn match dealRule "\<largest\s\+remainder\>"
 
 syn keyword dealConditional if then else
 syn keyword dealLogical and or not
@@ -69,6 +77,7 @@ hi def link dealString        String
 hi def link dealStatement     Statement
 hi def link dealPartyName     Type
 hi def link dealParamName     Identifier
+hi def link dealAttributeName Identifier
 hi def link dealPartyRef      Identifier
 hi def link dealCoalitionName Identifier
 hi def link dealShareKind     Keyword
