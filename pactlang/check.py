@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import heapq
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from fractions import Fraction
 from math import floor
 
@@ -46,6 +46,7 @@ class CheckOptions:
     low_bits: int | None = None  # tests lower it to exercise several chunks
     search: str = "auto"  # "auto" | "enumeration" | "milp": how coalition requirements are searched
     progress: object | None = field(default=None, compare=False)  # a progress.Progress, or None
+    deadline: object | None = field(default=None, compare=False)  # a deadline.Deadline for the whole command
 
 
 @dataclass
@@ -165,9 +166,13 @@ class Checker:
     def run(self) -> list[Result]:
         """Results for the model's requirements; a division by zero in the
         baseline is an input error, under a contingency an `unknown`."""
+        from .deadline import TimeLimitReached
+
         requirements = self.model.requirements
         try:
             return self._run(requirements)
+        except TimeLimitReached:
+            return self.out_of_time()
         except PayoutUnavailable as exc:
             return [self._result(r, UNKNOWN, None, "payout", reason=f"the payout cannot be computed: {exc}")
                     for r in requirements]
@@ -176,10 +181,20 @@ class Checker:
                 raise AgreementError([error("evaluation", exc.message, exc.span or ast.Span(1, 1, 1, 2))]) from None
             return [self._result(r, UNKNOWN, None, "evaluation", reason=exc.message) for r in requirements]
 
+    def out_of_time(self) -> list[Result]:
+        """`unknown` for every requirement: the command's deadline passed first."""
+        from .deadline import REASON
+
+        return [self._result(r, UNKNOWN, None, "deadline", reason=REASON) for r in self.model.requirements]
+
     def _run(self, requirements) -> list[Result]:
+        from .deadline import checkpoint
+
         model = self.model
         self.worths = Worths(model)
+        checkpoint()  # the payout rules and the sweep are the long stages
         self.payouts = payout(self.worths)
+        checkpoint()
         worth_all = self.worths.worth_all
         self.worth_all = worth_all
         self.budget_excess = excess(model, worth_all, sum(self.payouts, Fraction(0)))
@@ -319,27 +334,51 @@ class Checker:
 
 def check_model(model: Model, options: CheckOptions = CheckOptions()) -> list[Result]:
     """All results: the baseline, then each contingency."""
+    from .deadline import active
+
     progress = options.progress
     if progress is not None:
         progress.start_file(model.path, 1 + len(model.contingencies))
         progress.scenario("baseline")
     try:
-        results = Checker(model, options).run()
-        results.extend(_contingency_results(model, options))
+        with active(options.deadline):
+            if _out_of_time(options):
+                results = Checker(model, options).out_of_time()
+            else:
+                results = Checker(model, _within(options)).run()
+            results.extend(_contingency_results(model, options))
     finally:
         if progress is not None:
             progress.end_file()
     return results
 
 
+def _out_of_time(options: CheckOptions) -> bool:
+    return options.deadline is not None and options.deadline.passed
+
+
+def _within(options: CheckOptions) -> CheckOptions:
+    """The options of the next scenario: its time limit cut to what is left of the command."""
+    if options.deadline is None:
+        return options
+    return replace(options, time_limit=options.deadline.cap(options.time_limit))
+
+
 def _contingency_results(model: Model, options: CheckOptions) -> list[Result]:
     if not model.contingencies:
         return []  # Z3 and the range machinery are imported only when needed
     from .contingencies import check_contingency
+    from .deadline import TimeLimitReached
 
     results = []
     for c in model.contingencies:
         if options.progress is not None:
             options.progress.scenario(c.name)
-        results.extend(check_contingency(model, c, options))
+        if _out_of_time(options):
+            results.extend(Checker(model, options, contingency=c.name).out_of_time())
+            continue
+        try:
+            results.extend(check_contingency(model, c, _within(options)))
+        except TimeLimitReached:
+            results.extend(Checker(model, options, contingency=c.name).out_of_time())
     return results

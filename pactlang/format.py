@@ -29,14 +29,13 @@ import difflib
 import os
 import stat
 from dataclasses import dataclass
-from pathlib import Path
 
 from . import ast
 from .atomic import write_atomic
 from .comments import BlockNotes, Layout, Notes, attach, comment_shape, comment_texts, comments_by_line
 from .comments import scan_comments as _scan_comments  # noqa: F401 - its old name here, still read by the tests
-from .diagnostics import AgreementError, Diagnostic
-from .load import read_text
+from .diagnostics import AgreementError, Diagnostic, error
+from .load import BOM, FILE_START, Source, agreement_paths, first_newline, normalize_text, read_source
 from .parse import parse_text
 from .printer import Printer, table_rows
 from .statement_order import canonical_order, statement_group
@@ -242,36 +241,70 @@ class Outcome:
             fromfile=f"a/{label}", tofile=f"b/{label}"))
 
 
-def format_source(path: str, source: str) -> Outcome:
-    """Format text that came from `path` (nothing is written)."""
+def format_source(path: str, source: str, original: Source | None = None) -> Outcome:
+    """Format text that came from `path` (nothing is written). With `original`
+    (the decoded file), `source` is its LF text and the result is written back
+    in the file's own line ending and byte-order mark."""
+    if original is None:
+        original = Source(normalize_text(source), first_newline(source), source.startswith(BOM))
+        source_text = source
+    else:
+        source_text = original.restore(original.text)
     try:
-        formatted = format_text(source)
+        formatted = original.restore(format_text(original.text))
     except AgreementError as exc:
-        return Outcome(path, "error", source, diagnostics=tuple(exc.diagnostics))
+        return Outcome(path, "error", source_text, diagnostics=tuple(exc.diagnostics))
     except FormatError as exc:
-        return Outcome(path, "error", source, internal=str(exc))
-    return Outcome(path, "unchanged" if formatted == source else "changed", source, formatted)
+        return Outcome(path, "error", source_text, internal=str(exc))
+    return Outcome(path, "unchanged" if formatted == source_text else "changed", source_text, formatted)
+
+
+def _refusal(path: str, message: str, help: str | None = None) -> Outcome:
+    return Outcome(path, "error", diagnostics=(error("not-written", message, FILE_START, help),))
+
+
+def writable_problem(path: str) -> Outcome | None:
+    """Why a file must not be rewritten in place, as an outcome, or None.
+
+    Read-only files are refused as editors do (even for root, who could);
+    a file with other hard links is refused, since replacing it would split
+    it from its other names and writing into it is not atomic."""
+    try:
+        info = os.stat(path)
+    except OSError as exc:
+        return _refusal(path, f"cannot read the file's permissions: {exc.strerror or exc}")
+    if not info.st_mode & (stat.S_IWUSR | stat.S_IWGRP | stat.S_IWOTH) or not os.access(path, os.W_OK):
+        return _refusal(path, "the file is read-only, so it was not reformatted",
+                        help="make it writable first, or see the changes with `pactlang fmt --diff`")
+    if info.st_nlink > 1:
+        return _refusal(path, f"the file has {info.st_nlink} hard links, so it was not reformatted "
+                        "(replacing it would separate it from its other names)",
+                        help="see the changes with `pactlang fmt --diff`, or format a copy")
+    return None
 
 
 def format_file(path: str, write: bool = True) -> Outcome:
-    """Format one file in place (atomically, keeping its permissions) when
-    `write` and it changes; a file that does not parse is never touched."""
+    """Format one file in place (atomically, keeping its permissions and owner)
+    when `write` and it changes; a file that does not parse is never touched,
+    nor one that is read-only or has other hard links. Never raises for a
+    file that cannot be read or written: that is the outcome."""
     try:
-        source = read_text(path)
+        original = read_source(path)
     except AgreementError as exc:
         return Outcome(path, "error", diagnostics=tuple(exc.diagnostics))
-    outcome = format_source(path, source)
+    outcome = format_source(path, original.text, original)
     if write and outcome.status == "changed":
-        write_atomic(path, outcome.formatted.encode("utf-8"))
+        problem = writable_problem(path)
+        if problem is not None:
+            return dataclasses.replace(problem, original=outcome.original)
+        try:
+            write_atomic(path, outcome.formatted.encode("utf-8"))
+        except OSError as exc:
+            return _refusal(path, f"cannot write the file: {exc.strerror or exc}")
     return outcome
 
 
-def expand_paths(paths: list[str]) -> list[str]:
-    """Files as given; a directory stands for every `.deal` file below it."""
-    out = []
-    for p in paths:
-        if p != "-" and os.path.isdir(p):
-            out.extend(sorted(str(f) for f in Path(p).rglob("*.deal") if stat.S_ISREG(f.stat().st_mode)))
-        else:
-            out.append(p)
-    return out
+def expand_paths(paths: list[str], notes: list[str] | None = None) -> list[str]:
+    """Files as given; a directory stands for every `.deal` file below it
+    (links to missing files skipped, each with a line in `notes`)."""
+    return agreement_paths(paths, notes)

@@ -33,14 +33,25 @@ def result_json(r: Result) -> dict:
     return out
 
 
+def internal_error_json(f) -> dict:
+    """`{"internal_error": "MESSAGE"}` when the tool failed on the file (the run
+    then exits 4; the file's diagnostics hold the same message), else `{}`."""
+    from .failures import is_internal
+
+    failures = [d.message for d in f.diagnostics if is_internal(d)]
+    return {"internal_error": "; ".join(failures)} if failures else {}
+
+
 def render_json(run: RunReport) -> str:
     """The `check --format json` document."""
     files = []
     for f in run.files:
-        files.append({
+        entry = {
             "path": f.path,
             "agreement": f.agreement,
             "results": [result_json(r) for r in f.results],
             "diagnostics": [d.to_json() for d in f.diagnostics],
-        })
+        }
+        entry.update(internal_error_json(f))
+        files.append(entry)
     return json.dumps({"files": files}, indent=2, ensure_ascii=False)

@@ -53,6 +53,9 @@ def _rule_descriptor(code: str) -> dict:
         level = "warning" if code == "requirement-unknown" else "error"
     elif code in RULES:
         short, help_text, level = RULES[code].summary, RULES[code].help, "warning"
+    elif code == "lint-stopped":
+        short, help_text, level = ("the drafting checks were cut short by the time limit",
+                                   "allow more time with `--time-limit`, or run `pactlang lint`", "warning")
     else:  # errors of reading and resolving an agreement
         short = f"the agreement cannot be read: {code.replace('-', ' ')}"
         help_text, level = "fix the line named; nothing is checked until the file reads cleanly", "error"
@@ -166,6 +169,16 @@ def _diagnostic_result(d: Diagnostic, uri: dict, rule_index: int) -> dict:
     }
 
 
+def _internal_notification(d: Diagnostic, uri: dict) -> dict:
+    """A tool execution notification for an internal error on one file."""
+    return {
+        "level": "error",
+        "descriptor": {"id": d.code},
+        "message": {"text": f"{d.message}\nhelp: {d.help}" if d.help else d.message},
+        "locations": [{"physicalLocation": {"artifactLocation": uri}}],
+    }
+
+
 def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, base: str | None = None) -> dict:
     """The SARIF log of a run, as a JSON-ready dict. `models` maps a report's
     path to its model (for related locations); `base` is the directory the
@@ -184,10 +197,15 @@ def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, 
 
     for code in list(VERDICT_RULES) + list(RULES):  # the whole catalogue, used or not
         rule_index(code)
-    results = []
+    from .failures import is_internal
+
+    results, notifications = [], []
     for f in run.files:
         uri = artifact_uri(f.path, base)
         for d in f.diagnostics:
+            if is_internal(d):  # a fault of the tool, not a finding in the file
+                notifications.append(_internal_notification(d, uri))
+                continue
             results.append(_diagnostic_result(d, uri, rule_index(d.code)))
         for r in f.results:
             if r.status not in (FAILS, UNKNOWN):
@@ -219,6 +237,10 @@ def render_sarif(run: RunReport, models: dict[str, Model | None] | None = None, 
             }},
             "originalUriBaseIds": {SRCROOT: {"uri": Path(base or os.getcwd()).resolve().as_uri() + "/"}},
             "columnKind": "unicodeCodePoints",
+            "invocations": [{
+                "executionSuccessful": not notifications,
+                "toolExecutionNotifications": notifications,
+            }],
             "results": results,
         }],
     }

@@ -61,11 +61,19 @@ def coalition_text(members, parties=()) -> str:
     return "{" + ", ".join(members[:4]) + f", ... {len(members) - 4} more}}"
 
 
-def render_file(f: FileReport, colour: bool = False, model=None, options: RenderOptions = RenderOptions()) -> list[str]:
-    lines = []
-    for d in f.diagnostics:
-        text = d.render(f.path)
-        lines.append(_paint(text, d.severity, colour) if colour else text)
+def file_diagnostics(f: FileReport, colour: bool = False) -> list[str]:
+    """`FILE:LINE:COL: severity: message` lines of one file."""
+    return [_paint(d.render(f.path), d.severity, colour) if colour else d.render(f.path) for d in f.diagnostics]
+
+
+def render_diagnostics(run: RunReport, colour: bool = False) -> list[str]:
+    """Every file's diagnostics, for standard error."""
+    return [line for f in run.files for line in file_diagnostics(f, colour)]
+
+
+def render_file(f: FileReport, colour: bool = False, model=None, options: RenderOptions = RenderOptions(),
+                diagnostics: bool = True) -> list[str]:
+    lines = file_diagnostics(f, colour) if diagnostics else []
     if f.agreement is None:
         return lines
     lines.append(f"{f.path}: {f.agreement} (shares {f.kind}{' in ' + f.unit if f.unit else ''})")
@@ -122,14 +130,15 @@ def summary(run: RunReport) -> str:
 
 
 def render_text(run: RunReport, colour: bool = False, models: dict | None = None,
-                options: RenderOptions = RenderOptions()) -> str:
+                options: RenderOptions = RenderOptions(), diagnostics: bool = True) -> str:
     """The whole text report, ending with the one-line summary and the caution.
 
     `models` (display path -> Model, as `run.check_files` returns them) adds
-    the per-party view under each failing requirement."""
+    the per-party view under each failing requirement; `diagnostics=False`
+    leaves the diagnostics out, when they are printed apart (on stderr)."""
     lines = []
     for f in run.files:
-        lines.extend(render_file(f, colour, (models or {}).get(f.path), options))
+        lines.extend(render_file(f, colour, (models or {}).get(f.path), options, diagnostics))
     lines.append(summary(run))
     lines.append(CAUTION)
     return "\n".join(lines)

@@ -241,7 +241,7 @@ def test_directories_stand_for_their_deal_files(tmp_path: Path) -> None:
     assert result.returncode == 1 and f"{Path('sub/one.deal')}: layout would change" in result.stderr
 
 
-def test_internal_error_is_reported_with_exit_2(tmp_path: Path, monkeypatch) -> None:
+def test_internal_error_is_reported_with_exit_4(tmp_path: Path, monkeypatch) -> None:
     import io
 
     from pactlang.commands.fmt import FmtOptions, run_fmt
@@ -252,7 +252,7 @@ def test_internal_error_is_reported_with_exit_2(tmp_path: Path, monkeypatch) -> 
     monkeypatch.setattr(fmt, "_with_comment", lambda code, comment, column=None: code)
     monkeypatch.chdir(tmp_path)
     out, err = io.StringIO(), io.StringIO()
-    assert run_fmt(["a.deal"], FmtOptions(), out, err) == 2
+    assert run_fmt(["a.deal"], FmtOptions(), out, err) == 4  # the tool failed, not the input
     assert "a.deal: error: the layout pass went wrong, so the file was left as it was" in err.getvalue()
     assert target.read_text() == source
 
@@ -418,3 +418,98 @@ def test_formatting_is_idempotent_and_keeps_meaning(text: str) -> None:
     after = resolve(parse_text(out))
     assert after.parties == before.parties and after.table == before.table and after.formula == before.formula
     assert verdicts(after) == verdicts(before)
+
+
+# ---------------------------------------------------------------- files that must not be rewritten, odd bytes
+
+
+def test_each_file_gets_its_own_result(tmp_path: Path) -> None:
+    """`fmt a.deal readonly-dir/b.deal c.deal` used to stop at b with a
+    PermissionError traceback and never format c."""
+    (tmp_path / "a.deal").write_text(MESSY)
+    locked = tmp_path / "locked"
+    locked.mkdir()
+    (locked / "b.deal").write_text(MESSY)
+    (tmp_path / "c.deal").write_text(MESSY)
+    locked.chmod(0o555)
+    try:
+        if os.geteuid() == 0:  # root may write into the directory anyway: take the write away another way
+            (locked / "b.deal").chmod(0o444)
+        result = run_cli("a.deal", str(Path("locked/b.deal")), "c.deal", cwd=tmp_path)
+    finally:
+        locked.chmod(0o755)
+    assert result.returncode == 2 and "Traceback" not in result.stderr
+    assert (tmp_path / "a.deal").read_text() == TIDY and (tmp_path / "c.deal").read_text() == TIDY
+    assert (locked / "b.deal").read_text() == MESSY
+    assert f"{Path('locked/b.deal')}:1:1: error:" in result.stderr
+    assert "3 files: 2 rewritten, 1 left untouched (errors above)" in result.stderr
+
+
+def test_read_only_files_are_refused(tmp_path: Path) -> None:
+    target = tmp_path / "a.deal"
+    target.write_text(MESSY)
+    target.chmod(0o444)
+    result = run_cli("a.deal", cwd=tmp_path)
+    assert result.returncode == 2
+    assert "a.deal:1:1: error: the file is read-only, so it was not reformatted" in result.stderr
+    assert target.read_text() == MESSY and stat.S_IMODE(target.stat().st_mode) == 0o444
+    assert run_cli("--check", "a.deal", cwd=tmp_path).returncode == 1  # checking a read-only file is fine
+
+
+def test_hard_links_are_refused_and_named(tmp_path: Path) -> None:
+    target = tmp_path / "a.deal"
+    target.write_text(MESSY)
+    os.link(target, tmp_path / "b.deal")
+    result = run_cli("a.deal", cwd=tmp_path)
+    assert result.returncode == 2 and "the file has 2 hard links, so it was not reformatted" in result.stderr
+    assert target.read_text() == MESSY and (tmp_path / "b.deal").stat().st_ino == target.stat().st_ino
+
+
+@pytest.mark.skipif(not hasattr(os, "geteuid") or os.geteuid() != 0, reason="only root can give a file away")
+def test_owner_and_group_are_kept(tmp_path: Path) -> None:
+    target = tmp_path / "a.deal"
+    target.write_text(MESSY)
+    os.chown(target, 4321, 4322)
+    target.chmod(0o664)
+    assert run_cli("a.deal", cwd=tmp_path).returncode == 0
+    info = target.stat()
+    assert target.read_text() == TIDY and (info.st_uid, info.st_gid) == (4321, 4322)
+    assert stat.S_IMODE(info.st_mode) == 0o664
+
+
+def test_dangling_links_in_a_directory_are_skipped_with_a_note(tmp_path: Path) -> None:
+    (tmp_path / "a.deal").write_text(MESSY)
+    (tmp_path / ".#a.deal").symlink_to(tmp_path / "user@host.1234")  # an editor's lock file
+    result = run_cli(".", cwd=tmp_path)
+    assert result.returncode == 0 and "Traceback" not in result.stderr
+    assert ".#a.deal: note: skipped, a link to a file that does not exist" in result.stderr
+    assert (tmp_path / "a.deal").read_text() == TIDY
+    named = run_cli(".#a.deal", cwd=tmp_path)  # named on its own: an error for that file, not a crash
+    assert named.returncode == 2 and ".#a.deal:1:1: error: a link to a file that does not exist" in named.stderr
+
+
+@pytest.mark.parametrize("newline", ["\n", "\r\n", "\r"])
+@pytest.mark.parametrize("bom", [False, True])
+def test_line_endings_and_byte_order_mark_are_kept(tmp_path: Path, newline: str, bom: bool) -> None:
+    """fmt writes the file back in its own convention: the line ending of its
+    first line, and the byte-order mark if it had one."""
+    mark = b"\xef\xbb\xbf" if bom else b""
+    target = tmp_path / "a.deal"
+    target.write_bytes(mark + MESSY.replace("\n", newline).encode())
+    result = run_cli("a.deal", cwd=tmp_path)
+    assert result.returncode == 0, result.stderr
+    assert target.read_bytes() == mark + TIDY.replace("\n", newline).encode()
+    assert run_cli("--check", "a.deal", cwd=tmp_path).returncode == 0
+
+
+def test_stdin_is_read_as_bytes_and_decoded_like_a_file(tmp_path: Path) -> None:
+    env = dict(os.environ, NO_COLOR="1", PYTHONPATH=str(HERE.parent), LC_ALL="C", PYTHONUTF8="0",
+               PYTHONIOENCODING="ascii:strict")
+    bad = subprocess.run([sys.executable, "-m", "pactlang", "fmt", "-"], cwd=tmp_path, capture_output=True,
+                         input=b'agreement "caf\xe9"\n', env=env)
+    assert bad.returncode == 2 and b"Traceback" not in bad.stderr
+    assert b"<stdin>:1:15: error: the file is not valid UTF-8" in bad.stderr
+    crlf = subprocess.run([sys.executable, "-m", "pactlang", "fmt", "-"], cwd=tmp_path, capture_output=True,
+                          input=b"\xef\xbb\xbf" + MESSY.replace("\n", "\r\n").encode(), env=env)
+    assert crlf.returncode == 0, crlf.stderr
+    assert crlf.stdout == b"\xef\xbb\xbf" + TIDY.replace("\n", "\r\n").encode()

@@ -175,3 +175,46 @@ def test_check_format_sarif(tmp_path: Path) -> None:
     assert "coalition {a, b} has excess 3" in fails[0]["message"]["text"]
     related = {x["physicalLocation"]["region"]["startLine"] for x in fails[0]["relatedLocations"]}
     assert related == {13, 14, 9}  # a's payout line, the rest rule, worth {a, b}
+
+
+def test_internal_error_is_a_tool_execution_notification(tmp_path: Path, monkeypatch, capsys) -> None:
+    """A crash on one file of three: the log stays valid, the other files'
+    results are in it, and the run's invocation says the execution failed."""
+    import pactlang.run as run_module
+    from pactlang.cli import main
+
+    (tmp_path / "a.deal").write_text(UNSTABLE)
+    (tmp_path / "b.deal").write_text(UNSTABLE)
+    (tmp_path / "c.deal").write_text(UNSTABLE)
+    real = run_module.check_model
+
+    def crashing(model, options):
+        if model.path.endswith("b.deal"):
+            raise RuntimeError("injected fault")
+        return real(model, options)
+
+    monkeypatch.setattr(run_module, "check_model", crashing)
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setattr(sys, "argv", ["pactlang", "check", "--format", "sarif", "a.deal", "b.deal", "c.deal"])
+    with pytest.raises(SystemExit) as info:
+        main()
+    assert info.value.code == 4
+    log = json.loads(capsys.readouterr().out)
+    validate(log)
+    run = log["runs"][0]
+    (invocation,) = run["invocations"]
+    assert invocation["executionSuccessful"] is False
+    (notification,) = invocation["toolExecutionNotifications"]
+    assert notification["level"] == "error" and notification["descriptor"]["id"] == "internal-error"
+    assert "internal error while checking the agreement: RuntimeError: injected fault" in notification["message"]["text"]
+    assert notification["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] == "b.deal"
+    failing = sorted(r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"]
+                     for r in run["results"] if r["ruleId"] == "unstable-coalition")
+    assert failing == ["a.deal", "c.deal"]
+    assert all(r["ruleId"] != "internal-error" for r in run["results"])
+
+
+def test_successful_run_says_so() -> None:
+    log = render_sarif(RunReport([]))
+    validate(log)
+    assert log["runs"][0]["invocations"] == [{"executionSuccessful": True, "toolExecutionNotifications": []}]

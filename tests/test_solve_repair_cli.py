@@ -117,7 +117,7 @@ payout by equal split
 
 def test_solve_on_broken_file_is_input_error(tmp_path):
     out = run(tmp_path, "agreement \"x\"\nshares value\nparty a\n", "solve")
-    assert out.returncode == 2 and ":" in out.stdout and "Traceback" not in out.stderr
+    assert out.returncode == 2 and ":" in out.stderr and "Traceback" not in out.stderr
 
 
 def test_division_by_zero_is_an_input_error_in_solve_and_repair(tmp_path):
@@ -126,7 +126,7 @@ def test_division_by_zero_is_an_input_error_in_solve_and_repair(tmp_path):
     for command in ("solve", "repair"):
         out = run(tmp_path, text, command)
         assert out.returncode == 2, out.stdout + out.stderr
-        assert "a.deal:5:11: error: division by zero" in out.stdout and "Traceback" not in out.stderr
+        assert "a.deal:5:11: error: division by zero" in out.stderr and "Traceback" not in out.stderr
 
 
 # The runway game (cost = longest need) paid by equal split: 4.5 each. {a, b, c}

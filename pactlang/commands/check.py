@@ -1,4 +1,9 @@
-"""`pactlang check FILE...` -> verdicts in text, JSON or SARIF, and the exit code."""
+"""`pactlang check FILE...` -> verdicts in text, JSON or SARIF, and the exit code.
+
+The report goes to standard output; diagnostics (`FILE:LINE:COL: ...`), notes
+and the progress line go to standard error in text mode. JSON and SARIF carry
+the diagnostics inside the document.
+"""
 
 from __future__ import annotations
 
@@ -9,6 +14,8 @@ from typing import List
 
 import typer
 
+from . import note, time_limit_option
+
 
 class OutputFormat(str, Enum):
     text = "text"
@@ -18,10 +25,10 @@ class OutputFormat(str, Enum):
 
 
 def check(
-    files: List[str] = typer.Argument(..., help="Agreement files (.deal)."),
+    files: List[str] = typer.Argument(..., help="Agreement files (.deal) or directories; `-` reads standard input."),
     format: OutputFormat = typer.Option(OutputFormat.text, "--format", help="Output format."),
     top: int = typer.Option(5, "--top", min=1, help="Counterexamples per requirement, worst first."),
-    time_limit: float = typer.Option(None, "--time-limit", help="Seconds per requirement before `unknown`."),
+    time_limit: float = time_limit_option(),
     quiet: bool = typer.Option(False, "--quiet", help="No progress output."),
     digits: int = typer.Option(None, "--digits", min=0, max=12, help="Decimals of amounts in text (default: enough to tell a table's numbers apart)."),
     exact: bool = typer.Option(False, "--exact", help="Exact amounts (fractions) in text."),
@@ -29,12 +36,21 @@ def check(
 ) -> None:
     """Check every requirement of the agreements, in the baseline and each contingency."""
     from ..check import CheckOptions
+    from ..deadline import Deadline
+    from ..load import agreement_paths
     from ..progress import Progress
+    from ..failures import exit_code
     from ..run import check_files
 
-    progress = Progress.for_stream(len(files), quiet=quiet)
+    deadline = Deadline(time_limit)  # one deadline for the whole command
+    notes: list[str] = []
+    paths = agreement_paths(files, notes)
+    for text in notes:
+        note(text)
+    progress = Progress.for_stream(len(paths), quiet=quiet)
     try:
-        run, models = check_files(files, CheckOptions(top=top, time_limit=time_limit, progress=progress))
+        run, models = check_files(paths, CheckOptions(top=top, time_limit=time_limit, progress=progress,
+                                                      deadline=deadline))
     finally:
         if progress is not None:
             progress.clear()
@@ -55,10 +71,14 @@ def check(
 
             print(render_markdown(run, models, options))
         else:
-            from ..render_text import render_text, use_colour
+            from ..render_text import render_diagnostics, render_text, use_colour
 
-            print(render_text(run, colour=use_colour(sys.stdout), models=models, options=options))
-    raise typer.Exit(run.exit_code)
+            problems = render_diagnostics(run, colour=use_colour(sys.stderr))
+            if problems:
+                print("\n".join(problems), file=sys.stderr)
+            print(render_text(run, colour=use_colour(sys.stdout), models=models, options=options,
+                              diagnostics=False))
+    raise typer.Exit(exit_code(run))
 
 
 def register(app: typer.Typer) -> None:

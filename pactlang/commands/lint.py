@@ -2,7 +2,9 @@
 
 Exit codes: 0 no errors (warnings allowed unless `--strict`); 1 `--strict`
 and a warning was found; 2 a file is missing or cannot be read (syntax or
-name errors, which are reported like any finding).
+name errors, which are reported like any finding); 4 lint itself failed on a
+file (an internal error; the other files are still reported). The findings
+are this command's report, so in text mode they go to standard output.
 """
 
 from __future__ import annotations
@@ -14,7 +16,6 @@ from typing import List, Optional
 
 import typer
 
-from ..results import EXIT_FAILS, EXIT_INPUT, EXIT_OK, FileReport, RunReport
 
 
 class LintFormat(str, Enum):
@@ -28,13 +29,14 @@ def lint_file(path: str, label: str, ignore: frozenset[str] = frozenset()):
     from ..diagnostics import AgreementError
     from ..lint import lint_model
     from ..load import read_text
+    from ..results import FileReport
     from ..parse import parse_text
     from ..resolve import resolve
 
     report = FileReport(label, None)
     model = None
     try:
-        text = sys.stdin.read() if path == "-" else read_text(path)
+        text = read_text(path)
         doc = parse_text(text)
     except AgreementError as exc:
         report.diagnostics.extend(exc.diagnostics)
@@ -49,15 +51,22 @@ def lint_file(path: str, label: str, ignore: frozenset[str] = frozenset()):
     return report, model
 
 
-def lint_paths(paths: list[str], ignore: frozenset[str] = frozenset()) -> tuple[RunReport, dict]:
+def lint_paths(paths: list[str], ignore: frozenset[str] = frozenset(),
+               notes: list[str] | None = None) -> tuple[RunReport, dict]:
     """Lint every file; the report and the models by display path."""
     from ..format import expand_paths
-    from ..run import display_path
+    from ..results import FileReport, RunReport
+    from ..failures import internal_diagnostic
+    from ..load import label_of as display_path
 
     run, models = RunReport(), {}
-    for path in expand_paths(paths):
+    for path in expand_paths(paths, notes):
         label = "<stdin>" if path == "-" else display_path(path)
-        report, model = lint_file(path, label, ignore)
+        try:
+            report, model = lint_file(path, label, ignore)
+        except Exception as exc:  # noqa: BLE001 - one file's crash is reported; the others go on
+            report, model = FileReport(label, None), None
+            report.diagnostics.append(internal_diagnostic(exc, "linting the agreement"))
         run.files.append(report)
         models[label] = model
     return run, models
@@ -84,12 +93,19 @@ def render_lint_text(run: RunReport, colour: bool = False) -> str:
 
 def render_lint_json(run: RunReport) -> str:
     """The `check --format json` file shape, with diagnostics only."""
+    from ..render_json import internal_error_json
+
     files = [{"path": f.path, "agreement": f.agreement, "diagnostics": [d.to_json() for d in f.diagnostics]}
-             for f in run.files]
+             | internal_error_json(f) for f in run.files]
     return json.dumps({"files": files}, indent=2)
 
 
 def lint_exit_code(run: RunReport, strict: bool) -> int:
+    from ..results import EXIT_FAILS, EXIT_INPUT, EXIT_OK
+    from ..failures import EXIT_INTERNAL, internal_failures
+
+    if internal_failures(run):
+        return EXIT_INTERNAL
     if any(f.has_errors for f in run.files):
         return EXIT_INPUT
     if strict and any(f.diagnostics for f in run.files):
@@ -104,7 +120,10 @@ def lint(
     ignore: Optional[List[str]] = typer.Option(None, "--ignore", metavar="CODE", help="Skip a lint code (repeatable)."),
 ) -> None:
     """Find drafting mistakes without running any solver."""
-    run, models = lint_paths(files, frozenset(ignore or ()))
+    notes: list[str] = []
+    run, models = lint_paths(files, frozenset(ignore or ()), notes)
+    for text in notes:
+        print(text, file=sys.stderr)
     if format is LintFormat.json:
         print(render_lint_json(run))
     elif format is LintFormat.sarif:

@@ -10,8 +10,6 @@ import sys
 
 import typer
 
-from ..results import EXIT_INPUT
-
 INSTALL_HINT = "the language server needs pygls 2: install pactlang[editor]  (pip install 'pactlang[editor]')"
 
 
@@ -34,6 +32,8 @@ def serve(
 ) -> None:
     """Run the language server (diagnostics, hover, formatting, definitions, completion)."""
     if not _pygls_ready():
+        from ..results import EXIT_INPUT
+
         print(f"error: {INSTALL_HINT}", file=sys.stderr)
         raise typer.Exit(EXIT_INPUT)
     import logging

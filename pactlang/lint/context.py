@@ -14,6 +14,7 @@ from functools import cached_property
 from math import lcm
 
 from .. import ast
+from ..deadline import checkpoint
 from ..formula import Env, EvaluationError, evaluate, walk
 from ..model import Model
 
@@ -96,6 +97,7 @@ class LintContext:
         return self._worths[mask]
 
     def _worth(self, mask: int) -> Fraction | None:
+        checkpoint()  # the command's deadline: one evaluation can cost O(parties)
         m = self.model
         env = Env(m.params, m.attributes)
         try:

@@ -22,6 +22,7 @@ from ..game import Game
 from .errors import SolverError
 from .exact import Span
 from .excess import game_bounds
+from ..deadline import checkpoint
 from .kohlberg import kohlberg_check
 from .least_core import start_masks
 from .lp import Program, Row, solve
@@ -58,6 +59,7 @@ def nucleolus(game: Game, prenucleolus: bool | None = None) -> list[Fraction]:
     inside = in_span_masks(span.kernel(), n)
     working = start_masks(n)
     while True:
+        checkpoint()  # the command's deadline, between rounds
         rows = [Row(tuple(Fraction(b) for b in bits(m, n)) + (zero,), Fraction(game.exact(m)) - c, eq=True)
                 for m, c in fixed]
         bounded = [i for i in range(n) if imputation and not inside[1 << i]]
@@ -86,6 +88,7 @@ def nucleolus(game: Game, prenucleolus: bool | None = None) -> list[Fraction]:
             break
         inside = in_span_masks(span.kernel(), n)
         working = [m for m in opt.working if not inside[m]]
+    checkpoint()
     if not kohlberg_check(game, x, prenucleolus=not imputation):
         raise SolverError("the computed nucleolus fails Kohlberg's criterion")
     return list(x)

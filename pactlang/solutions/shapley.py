@@ -15,6 +15,7 @@ from math import comb, lcm
 
 import numpy as np
 
+from ..deadline import checkpoint
 from ..game import Game
 from .masks import popcounts
 
@@ -69,6 +70,7 @@ def shapley(game: Game) -> list[Fraction]:
     weight = [Fraction(1, n * comb(n - 1, s)) for s in range(n)]
     phi = []
     for i in range(n):
+        checkpoint()  # the command's deadline, between players
         # Masks holding bit i: the upper half of every block of 2**(i+1).
         view = lambda a: a.reshape(-1, 2, 1 << i)[:, 1, :].ravel()
         holding = [0] * (n + 1)
