@@ -274,34 +274,40 @@ class Linearizer:
                 cond = self.truth(self.node(c))
                 a, b = self.node(t), self.node(o)
                 return b.plus(self.product_with_binary(cond, a.plus(b, Fraction(-1))))
-            case ast.Binary(op="and", left=l, right=r):
-                return self.both(self.truth(self.node(l)), self.truth(self.node(r)))
-            case ast.Binary(op="or", left=l, right=r):
-                return self.either(self.truth(self.node(l)), self.truth(self.node(r)))
-            case ast.Binary(op=op, left=l, right=r) if op in ast.COMPARISONS:
-                return self.compare(op, self.node(l), self.node(r))
+            case ast.Chain(first=first, rest=rest):
+                acc = self.node(first)
+                for op, operand in rest:
+                    acc = self.combine(op, acc, self.node(operand), e)
+                return acc
             case ast.Binary(op=op, left=l, right=r):
-                a, b = self.node(l), self.node(r)
-                if op == "+":
-                    return a.plus(b)
-                if op == "-":
-                    return a.plus(b, Fraction(-1))
-                if op == "*":
-                    if a.is_constant:
-                        return b.times(a.const)
-                    if b.is_constant:
-                        return a.times(b.const)
-                    if a.binary:
-                        return self.product_with_binary(a, b)
-                    if b.binary:
-                        return self.product_with_binary(b, a)
-                    raise Unsupported(f"a product of two values that depend on the coalition (line {_line(e)})")
-                if b.is_constant:
-                    if b.const == 0:
-                        raise Unsupported(f"division by zero (line {_line(e)})")
-                    return a.times(1 / b.const)
-                raise Unsupported(f"division by a value that depends on the coalition (line {_line(e)})")
+                return self.compare(op, self.node(l), self.node(r))
         raise Unsupported(f"`{type(e).__name__}` in a worth formula")
+
+    def combine(self, op: str, a: Lin, b: Lin, e: ast.Chain) -> Lin:
+        """One step of the chain `e`: `a op b`."""
+        if op == "and":
+            return self.both(self.truth(a), self.truth(b))
+        if op == "or":
+            return self.either(self.truth(a), self.truth(b))
+        if op == "+":
+            return a.plus(b)
+        if op == "-":
+            return a.plus(b, Fraction(-1))
+        if op == "*":
+            if a.is_constant:
+                return b.times(a.const)
+            if b.is_constant:
+                return a.times(b.const)
+            if a.binary:
+                return self.product_with_binary(a, b)
+            if b.binary:
+                return self.product_with_binary(b, a)
+            raise Unsupported(f"a product of two values that depend on the coalition (line {_line(e)})")
+        if b.is_constant:
+            if b.const == 0:
+                raise Unsupported(f"division by zero (line {_line(e)})")
+            return a.times(1 / b.const)
+        raise Unsupported(f"division by a value that depends on the coalition (line {_line(e)})")
 
     def compare(self, op: str, a: Lin, b: Lin) -> Lin:
         diff = a.plus(b, Fraction(-1))

@@ -9,6 +9,7 @@ evaluated here too, exactly; rules that need a solver are delegated to
 
 from __future__ import annotations
 
+import math
 from fractions import Fraction
 from functools import cached_property
 
@@ -67,6 +68,10 @@ class Worths:
         from .sweep import worth_table  # lazy: numpy sweep only when a solver needs it
 
         floats, scaled = worth_table(self)
+        if not all(map(math.isfinite, floats)):
+            from .solutions.errors import SolverError
+
+            raise SolverError("some worths are beyond the float range (about 1.8e308) the payout solvers work in")
         sign = -1 if self.model.kind == "cost" else 1
         if scaled is not None:
             scaled = (scaled[0] * sign, scaled[1])
