@@ -122,8 +122,8 @@ def _solution_rule(kind: str, worths: Worths) -> list[Fraction]:
         raise PayoutUnavailable(f"the `{kind}` rule is not available: {exc}") from None
     if worths.model.n > 24:
         raise PayoutUnavailable(f"the `{kind}` rule needs every coalition; {worths.model.n} parties is above 24")
-    game = worths.game()
     try:
+        game = worths.game()
         if kind == "shapley":
             return solutions.shapley(game)
         if kind == "nucleolus":
