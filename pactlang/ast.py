@@ -90,12 +90,40 @@ class Neg:
 
 @dataclass(frozen=True)
 class Binary:
-    """Arithmetic `+ - * /`, comparisons `== != < <= > >=` and `and`/`or`."""
+    """A comparison `== != < <= > >=` (comparisons do not chain)."""
 
     op: str
     left: "Expr"
     right: "Expr"
     span: Span | None = _span()
+
+
+@dataclass(frozen=True)
+class Chain:
+    """Operators of one precedence level applied left to right: `a + b - c`,
+    `a * b / c`, `a and b and c` or `a or b or c`. `first` is the first
+    operand and `rest` the (operator, operand) pairs after it.
+
+    The parser builds a chain flat (a parenthesised chain of the same level
+    at its start is merged in, as left association reads it), so a formula
+    with thousands of terms is one node and no stage recurses over its length.
+    """
+
+    first: "Expr"
+    rest: tuple[tuple[str, "Expr"], ...]
+    span: Span | None = _span()
+
+    @property
+    def operands(self) -> tuple["Expr", ...]:
+        return (self.first,) + tuple(x for _, x in self.rest)
+
+    def prefix_span(self, k: int) -> Span | None:
+        """The span of the chain up to its k-th operator's right operand
+        (k counts from 0), e.g. where a division by zero is."""
+        end = self.rest[k][1].span
+        if self.first.span is None or end is None:
+            return self.span
+        return Span(self.first.span.line, self.first.span.column, end.end_line, end.end_column)
 
 
 @dataclass(frozen=True)
@@ -112,11 +140,45 @@ class If:
     span: Span | None = _span()
 
 
-Expr = Union[Num, Percent, Name, Member, Call, WorthOfAll, Neg, Binary, Not, If]
+Expr = Union[Num, Percent, Name, Member, Call, WorthOfAll, Neg, Binary, Chain, Not, If]
 
 ARITHMETIC = ("+", "-", "*", "/")
 COMPARISONS = ("==", "!=", "<", "<=", ">", ">=")
 LOGICAL = ("and", "or")
+# operators that share a chain: one precedence level each
+CHAIN_LEVELS = {"+": "+-", "-": "+-", "*": "*/", "/": "*/", "and": "and", "or": "or"}
+
+# How deeply formulas may nest (unary minus, `not`, `if`, parentheses that
+# change the reading, calls): every stage after parsing walks nesting by
+# recursion, and this keeps it far inside Python's stack. Chains do not nest.
+MAX_DEPTH = 100
+
+
+def children(expr: "Expr") -> tuple["Expr", ...]:
+    """The direct sub-expressions of an expression, left to right."""
+    match expr:
+        case Chain():
+            return expr.operands
+        case Binary(left=l, right=r):
+            return (l, r)
+        case Neg(operand=o) | Not(operand=o):
+            return (o,)
+        case If(cond=c, then=t, otherwise=o):
+            return (c, t, o)
+        case Call(args=args):
+            return args
+    return ()
+
+
+def too_deep(expr: "Expr", limit: int = MAX_DEPTH) -> "Expr | None":
+    """The first node nested more than `limit` levels deep, or None (iterative)."""
+    stack = [(expr, 1)]
+    while stack:
+        node, depth = stack.pop()
+        if depth > limit:
+            return node
+        stack.extend((c, depth + 1) for c in reversed(children(node)))
+    return None
 
 
 # ---------------------------------------------------------------- statements

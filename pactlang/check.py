@@ -119,7 +119,9 @@ class _Tracker:
         lb = np.where(valid & np.isfinite(lb), lb, -np.inf)
         ub = np.where(valid, np.where(np.isnan(ub), np.inf, ub), -np.inf)
         self.worst_lb = max(self.worst_lb, float(np.max(lb)))
-        self.worst_pool.extend(int(m) for m in masks[ub >= self.worst_lb])
+        # `valid &`: with unbounded errors worst_lb is -inf and the empty and
+        # full coalitions (ub -inf) would otherwise enter the pool
+        self.worst_pool.extend(int(m) for m in masks[valid & (ub >= self.worst_lb)])
         p = float(self.ratio)
         if self.relative:
             absv = np.abs(chunk.v)

@@ -294,21 +294,22 @@ class Encoding:
                 for v in values[1:]:
                     result = self.larger(result, v, func)
                 return result
-            case ast.Binary(op="and", left=l, right=r):
-                return self.both(self.truth(rec(l)), self.truth(rec(r)))
-            case ast.Binary(op="or", left=l, right=r):
-                return self.either(self.truth(rec(l)), self.truth(rec(r)))
-            case ast.Binary(op=op, left=l, right=r) if op in ast.COMPARISONS:
-                return self.compare(op, num(l), num(r))
+            case ast.Chain(first=first, rest=rest) if rest[0][0] in ("and", "or"):
+                combine = self.both if rest[0][0] == "and" else self.either
+                acc = self.truth(rec(first))
+                for _, operand in rest:
+                    acc = combine(acc, self.truth(rec(operand)))
+                return acc
+            case ast.Chain(first=first, rest=rest) if rest[0][0] in ("+", "-"):
+                return self.add(num(first), *(num(x) if op == "+" else self.neg(num(x)) for op, x in rest))
+            case ast.Chain(first=first, rest=rest):
+                acc = num(first)
+                for k, (op, operand) in enumerate(rest):
+                    b = num(operand)
+                    acc = self.mul(acc, b) if op == "*" else self.div(acc, b, e.prefix_span(k))
+                return acc
             case ast.Binary(op=op, left=l, right=r):
-                a, b = num(l), num(r)
-                if op == "+":
-                    return self.add(a, b)
-                if op == "-":
-                    return self.add(a, self.neg(b))
-                if op == "*":
-                    return self.mul(a, b)
-                return self.div(a, b, e.span)
+                return self.compare(op, num(l), num(r))
         raise Unsupported(f"cannot encode {type(e).__name__}")
 
     def _aggregate(self, func: str, attr: str, members) -> Num:

@@ -71,14 +71,26 @@ def evaluate(expr: ast.Expr, env: Env) -> Fraction:
             return evaluate(then if evaluate(cond, env) != 0 else otherwise, env)
         case ast.Call(func=func, args=args):
             return _call(func, args, env, expr.span)
+        case ast.Chain(first=first, rest=rest):
+            return _chain(expr, env)
         case ast.Binary(op=op, left=left, right=right):
-            if op == "and":
-                return truth(evaluate(left, env) != 0 and evaluate(right, env) != 0)
-            if op == "or":
-                return truth(evaluate(left, env) != 0 or evaluate(right, env) != 0)
             a, b = evaluate(left, env), evaluate(right, env)
             return _binary(op, a, b, expr.span)
     raise TypeError(f"not an expression: {expr!r}")
+
+
+def _chain(chain: ast.Chain, env: Env) -> Fraction:
+    """A chain folded left to right; `and`/`or` stop at the first operand
+    that decides them, as they always have."""
+    op = chain.rest[0][0]
+    if op == "and":
+        return truth(all(evaluate(x, env) != 0 for x in chain.operands))
+    if op == "or":
+        return truth(any(evaluate(x, env) != 0 for x in chain.operands))
+    value = evaluate(chain.first, env)
+    for k, (op, operand) in enumerate(chain.rest):
+        value = _binary(op, value, evaluate(operand, env), chain.prefix_span(k))
+    return value
 
 
 def _binary(op: str, a: Fraction, b: Fraction, span) -> Fraction:
@@ -131,33 +143,14 @@ def _call(func: str, args, env: Env, span) -> Fraction:
 
 def depends_on_coalition(expr: ast.Expr) -> bool:
     """Whether an expression reads the coalition (membership, count, aggregates)."""
-    match expr:
-        case ast.Member():
-            return True
-        case ast.Call(func=func, args=args):
-            return func == "count" or is_aggregate(expr) or any(depends_on_coalition(a) for a in args)
-        case ast.Neg(operand=o) | ast.Not(operand=o):
-            return depends_on_coalition(o)
-        case ast.Binary(left=l, right=r):
-            return depends_on_coalition(l) or depends_on_coalition(r)
-        case ast.If(cond=c, then=t, otherwise=o):
-            return any(depends_on_coalition(x) for x in (c, t, o))
-    return False
+    return any(isinstance(node, ast.Member) or (isinstance(node, ast.Call) and node.func == "count")
+               for node in walk(expr))
 
 
 def walk(expr: ast.Expr):
-    """Every node of an expression, parents first."""
-    yield expr
-    match expr:
-        case ast.Call(args=args):
-            for a in args:
-                yield from walk(a)
-        case ast.Neg(operand=o) | ast.Not(operand=o):
-            yield from walk(o)
-        case ast.Binary(left=l, right=r):
-            yield from walk(l)
-            yield from walk(r)
-        case ast.If(cond=c, then=t, otherwise=o):
-            yield from walk(c)
-            yield from walk(t)
-            yield from walk(o)
+    """Every node of an expression, parents first, left to right (iterative)."""
+    stack = [expr]
+    while stack:
+        node = stack.pop()
+        yield node
+        stack.extend(reversed(ast.children(node)))

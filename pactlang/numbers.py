@@ -31,5 +31,15 @@ def human(value: Fraction) -> str:
     """For people: the exact decimal, or `1/3 (~0.3333)` when it does not terminate."""
     text = exact_str(value)
     if "/" in text:
-        return f"{text} (~{float(value):.4g})"
+        return f"{text} (~{_approx(value)})"
     return text
+
+
+def _approx(value: Fraction) -> str:
+    """Four significant digits, also past the float range."""
+    try:
+        return f"{float(value):.4g}"
+    except OverflowError:
+        exponent = len(str(abs(value.numerator) // value.denominator)) - 1
+        mantissa = Fraction(value) / Fraction(10) ** exponent
+        return f"{float(mantissa):.4g}e+{exponent}"

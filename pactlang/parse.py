@@ -12,7 +12,7 @@ from functools import lru_cache
 from importlib import resources
 from pathlib import Path
 
-from lark import Lark, Token, Transformer, v_args
+from lark import Lark, Token, Transformer_NonRecursive, v_args
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken, VisitError
 
 from . import ast
@@ -133,9 +133,42 @@ def span_of(item) -> ast.Span:
     return ast.Span(item.line, item.column, item.end_line, item.end_column)
 
 
-def _decimal(text: str) -> Fraction:
+# Longest number literal accepted, in digits. Far beyond any amount of money,
+# and well inside what exact arithmetic and Python's own integer-to-text
+# conversion (4,300 digits by default) handle quickly.
+MAX_DIGITS = 400
+
+
+def _decimal(text: str, where) -> Fraction:
+    """The exact value of a decimal literal; `where` (a token or meta) locates
+    the refusal of one too long to be an amount."""
+    digits = sum(c.isdigit() for c in text)
+    if digits > MAX_DIGITS:
+        raise AgreementError([error(
+            "syntax", f"number with {digits} digits: at most {MAX_DIGITS} digits are allowed", span_of(where))])
     # Fraction parses decimal strings exactly ("0.05" -> 1/20); never via float.
     return Fraction(text)
+
+
+# Share kinds stay usable as names (`value` is a common attribute).
+_NOT_RESERVED = frozenset({"cost", "value"})
+
+
+@lru_cache(maxsize=1)
+def reserved_words() -> frozenset[str]:
+    """Every word of the grammar (`party`, `if`, `worth`, the rule words, ...)
+    except the share kinds: none of them can be a name."""
+    import re
+
+    words = {t.pattern.value for t in parser().terminals if t.pattern.type == "str"}
+    return frozenset(w for w in words if re.fullmatch(r"[A-Za-z_]\w*", w)) - _NOT_RESERVED
+
+
+def _refuse_reserved(name: str, what: str, where) -> None:
+    if name in reserved_words():
+        raise AgreementError([error(
+            "syntax", f"`{name}` is a reserved word and cannot name {what}", span_of(where),
+            "choose another name, e.g. `" + name + "_`")])
 
 
 def _unquote(token: str) -> str:
@@ -157,8 +190,9 @@ def quote(text: str) -> str:
 
 
 @v_args(meta=True)
-class _ToAst(Transformer):
-    """Lark tree -> ast nodes; one method per grammar rule or alias."""
+class _ToAst(Transformer_NonRecursive):
+    """Lark tree -> ast nodes; one method per grammar rule or alias. The
+    transform is iterative, so deeply nested input cannot exhaust the stack."""
 
     # statements
     def start(self, meta, items):
@@ -179,10 +213,10 @@ class _ToAst(Transformer):
         return _unquote(tok) if tok.type == "STRING" else str(tok)
 
     def party(self, meta, items):
-        return ast.PartyDecl(self._ident(items[0]), tuple(items[1:]), span=span_of(meta))
+        return ast.PartyDecl(self._ident(items[0], "a party"), tuple(items[1:]), span=span_of(meta))
 
     def attribute(self, meta, items):
-        return ast.Attribute(self._ident(items[0]), items[1], span=span_of(meta))
+        return ast.Attribute(self._ident(items[0], "an attribute"), items[1], span=span_of(meta))
 
     def parties_from(self, meta, items):
         return ast.PartiesFrom(_unquote(items[0]), span=span_of(meta))
@@ -192,7 +226,7 @@ class _ToAst(Transformer):
         return ast.RoundPayouts(ast.Num(_decimal(text), text, span=span_of(items[0])), span=span_of(meta))
 
     def param(self, meta, items):
-        return ast.ParamDecl(self._ident(items[0]), items[1], span=span_of(meta))
+        return ast.ParamDecl(self._ident(items[0], "a param"), items[1], span=span_of(meta))
 
     def worth_entry(self, meta, items):
         return ast.WorthEntry(items[0], items[1], span=span_of(meta))
@@ -201,7 +235,7 @@ class _ToAst(Transformer):
         return ast.WorthGrand(items[0], span=span_of(meta))
 
     def worth_formula(self, meta, items):
-        return ast.WorthFormula(self._ident(items[0]), items[1], span=span_of(meta))
+        return ast.WorthFormula(self._ident(items[0], "a coalition variable"), items[1], span=span_of(meta))
 
     def worth_otherwise(self, meta, items):
         return ast.WorthOtherwise(items[0], span=span_of(meta))
@@ -276,22 +310,25 @@ class _ToAst(Transformer):
         tok = items[-1]
         text = ("-" if negative else "") + str(tok)
         if tok.type == "PERCENT":
-            value = _decimal(str(tok)[:-1]) / 100
+            value = _decimal(str(tok)[:-1], tok) / 100
             return ast.Percent(-value if negative else value, text, span=span_of(meta))
-        value = _decimal(str(tok))
+        value = _decimal(str(tok), tok)
         return ast.Num(-value if negative else value, text, span=span_of(meta))
 
     # expressions
     def number(self, meta, items):
-        return ast.Num(_decimal(str(items[0])), str(items[0]), span=span_of(meta))
+        return ast.Num(_decimal(str(items[0]), items[0]), str(items[0]), span=span_of(meta))
 
     def percent(self, meta, items):
-        return ast.Percent(_decimal(str(items[0])[:-1]) / 100, str(items[0]), span=span_of(meta))
+        return ast.Percent(_decimal(str(items[0])[:-1], items[0]) / 100, str(items[0]), span=span_of(meta))
 
     def name(self, meta, items):
+        _refuse_reserved(str(items[0]), "a param", items[0])
         return ast.Name(str(items[0]), span=span_of(meta))
 
     def member(self, meta, items):
+        _refuse_reserved(str(items[0]), "a party or attribute", items[0])
+        _refuse_reserved(str(items[1]), "a coalition variable", items[1])
         return ast.Member(str(items[0]), str(items[1]), span=span_of(meta))
 
     def call(self, meta, items):
@@ -303,19 +340,29 @@ class _ToAst(Transformer):
     def negate(self, meta, items):
         return ast.Neg(items[1], span=span_of(meta))
 
-    def binary(self, meta, items):
-        left, op, right = items
-        return ast.Binary(str(op), left, right, span=span_of(meta))
-
     def compare(self, meta, items):
         left, op, right = items
         return ast.Binary(str(op), left, right, span=span_of(meta))
 
-    def and_op(self, meta, items):
-        return ast.Binary("and", items[0], items[1], span=span_of(meta))
+    def arith(self, meta, items):
+        return self._chain(meta, items[0], [(str(op), x) for op, x in zip(items[1::2], items[2::2])])
 
-    def or_op(self, meta, items):
-        return ast.Binary("or", items[0], items[1], span=span_of(meta))
+    term = arith
+
+    def and_expr(self, meta, items):
+        return self._chain(meta, items[0], [("and", x) for x in items[1:]])
+
+    def or_expr(self, meta, items):
+        return self._chain(meta, items[0], [("or", x) for x in items[1:]])
+
+    @staticmethod
+    def _chain(meta, first, rest) -> ast.Chain:
+        # `(a + b) - c` reads as `a + b - c`: merge a leading chain of the same
+        # level, so equal meanings give equal trees (the formatter relies on it)
+        level = ast.CHAIN_LEVELS[rest[0][0]]
+        if isinstance(first, ast.Chain) and ast.CHAIN_LEVELS[first.rest[0][0]] == level:
+            return ast.Chain(first.first, first.rest + tuple(rest), span=span_of(meta))
+        return ast.Chain(first, tuple(rest), span=span_of(meta))
 
     def not_op(self, meta, items):
         return ast.Not(items[0], span=span_of(meta))
@@ -324,7 +371,8 @@ class _ToAst(Transformer):
         return ast.If(items[0], items[1], items[2], span=span_of(meta))
 
     @staticmethod
-    def _ident(tok: Token) -> ast.Ident:
+    def _ident(tok: Token, what: str = "a party, attribute or param") -> ast.Ident:
+        _refuse_reserved(str(tok), what, tok)
         return ast.Ident(str(tok), span=span_of(tok))
 
 
@@ -383,8 +431,29 @@ def parse_text(text: str) -> ast.Document:
     source = text if text.endswith("\n") else text + "\n"
     try:
         tree = parser().parse(source)
-        return _ToAst().transform(tree)
+        document = _ToAst().transform(tree)
     except UnexpectedInput as exc:
         raise AgreementError([_syntax_diagnostic(exc, source)]) from None
-    except VisitError as exc:  # a literal that cannot be converted; should not happen
+    except VisitError as exc:
+        if isinstance(exc.orig_exc, AgreementError):
+            raise exc.orig_exc from None
+        # a literal that cannot be converted; should not happen
         raise AgreementError([error("syntax", f"cannot read this value: {exc.orig_exc}", ast.Span(1, 1, 1, 2))]) from None
+    _refuse_deep_nesting(document)
+    return document
+
+
+def _refuse_deep_nesting(document: ast.Document) -> None:
+    """Every later stage walks a formula's nesting by recursion: refuse depth
+    beyond `ast.MAX_DEPTH` here, where nothing recursive has run yet."""
+    for stmt in document.statements:
+        expr = getattr(stmt, "expr", None)
+        if expr is None:
+            continue
+        node = ast.too_deep(expr)
+        if node is not None:
+            span = node.span or stmt.span
+            raise AgreementError([error(
+                "syntax", f"formula nested too deeply (more than {ast.MAX_DEPTH} levels)",
+                ast.Span(span.line, span.column, span.line, span.column + 1),
+                "split it with a param or a simpler formula")])

@@ -50,6 +50,8 @@ class Printer:
             return 3
         if isinstance(node, ast.Binary):
             return _PREC[node.op]
+        if isinstance(node, ast.Chain):
+            return _PREC[node.rest[0][0]]
         if isinstance(node, ast.Neg):
             return 7
         return _ATOM
@@ -89,13 +91,17 @@ class Printer:
         return "not " + self.sub(node.operand, 3)
 
     def _fmt_binary(self, node: ast.Binary) -> str:
-        p = _PREC[node.op]
+        # comparisons do not chain
+        return f"{self.sub(node.left, 5, True)} {node.op} {self.sub(node.right, 5, True)}"
+
+    def _fmt_chain(self, node: ast.Chain) -> str:
+        # left-associative: later operands of the same level keep their brackets
+        p = self.prec(node)
         arithmetic = p >= 4
-        if p == 4:  # comparisons do not chain
-            left, right = self.sub(node.left, 5, arithmetic), self.sub(node.right, 5, arithmetic)
-        else:  # left-associative
-            left, right = self.sub(node.left, p, arithmetic), self.sub(node.right, p + 1, arithmetic)
-        return f"{left} {node.op} {right}"
+        parts = [self.sub(node.first, p, arithmetic)]
+        for op, operand in node.rest:
+            parts.append(f"{op} {self.sub(operand, p + 1, arithmetic)}")
+        return " ".join(parts)
 
     def _fmt_if(self, node: ast.If) -> str:
         # a nested `if` is bracketed in the condition and `then` part, where it

@@ -279,40 +279,49 @@ class Linearizer:
                 cond = self.truth(self.node(c))
                 a, b = self.node(t), self.node(o)
                 return b.plus(self.product_with_binary(cond, a.plus(b, Fraction(-1))))
-            case ast.Binary(op="*", left=l, right=ast.If() as step) if depends_on_coalition(l) \
-                    and depends_on_coalition(step):
-                return self.node(_distribute(l, step, e.span))
-            case ast.Binary(op="*", left=ast.If() as step, right=r) if depends_on_coalition(r) \
-                    and depends_on_coalition(step):
-                return self.node(_distribute(r, step, e.span))
-            case ast.Binary(op="and", left=l, right=r):
-                return self.both(self.truth(self.node(l)), self.truth(self.node(r)))
-            case ast.Binary(op="or", left=l, right=r):
-                return self.either(self.truth(self.node(l)), self.truth(self.node(r)))
-            case ast.Binary(op=op, left=l, right=r) if op in ast.COMPARISONS:
-                return self.compare(op, self.node(l), self.node(r))
+            case ast.Chain(first=first, rest=rest):
+                acc = self.node(first)
+                for k, (op, operand) in enumerate(rest):
+                    if op == "*" and isinstance(operand, ast.If) and depends_on_coalition(operand):
+                        so_far = first if k == 0 else ast.Chain(first, rest[:k], span=e.span)
+                        if depends_on_coalition(so_far):
+                            acc = self.node(_distribute(so_far, operand, e.span))
+                            continue
+                    if op == "*" and k == 0 and isinstance(first, ast.If) and depends_on_coalition(first) \
+                            and depends_on_coalition(operand):
+                        acc = self.node(_distribute(operand, first, e.span))
+                        continue
+                    acc = self.combine(op, acc, self.node(operand), e)
+                return acc
             case ast.Binary(op=op, left=l, right=r):
-                a, b = self.node(l), self.node(r)
-                if op == "+":
-                    return a.plus(b)
-                if op == "-":
-                    return a.plus(b, Fraction(-1))
-                if op == "*":
-                    if a.is_constant:
-                        return b.times(a.const)
-                    if b.is_constant:
-                        return a.times(b.const)
-                    if a.binary:
-                        return self.product_with_binary(a, b)
-                    if b.binary:
-                        return self.product_with_binary(b, a)
-                    raise Unsupported(f"a product of two values that depend on the coalition (line {_line(e)})")
-                if b.is_constant:
-                    if b.const == 0:
-                        raise Unsupported(f"division by zero (line {_line(e)})")
-                    return a.times(1 / b.const)
-                raise Unsupported(f"division by a value that depends on the coalition (line {_line(e)})")
+                return self.compare(op, self.node(l), self.node(r))
         raise Unsupported(f"`{type(e).__name__}` in a worth formula")
+
+    def combine(self, op: str, a: Lin, b: Lin, e: ast.Chain) -> Lin:
+        """One step of the chain `e`: `a op b`."""
+        if op == "and":
+            return self.both(self.truth(a), self.truth(b))
+        if op == "or":
+            return self.either(self.truth(a), self.truth(b))
+        if op == "+":
+            return a.plus(b)
+        if op == "-":
+            return a.plus(b, Fraction(-1))
+        if op == "*":
+            if a.is_constant:
+                return b.times(a.const)
+            if b.is_constant:
+                return a.times(b.const)
+            if a.binary:
+                return self.product_with_binary(a, b)
+            if b.binary:
+                return self.product_with_binary(b, a)
+            raise Unsupported(f"a product of two values that depend on the coalition (line {_line(e)})")
+        if b.is_constant:
+            if b.const == 0:
+                raise Unsupported(f"division by zero (line {_line(e)})")
+            return a.times(1 / b.const)
+        raise Unsupported(f"division by a value that depends on the coalition (line {_line(e)})")
 
     def compare(self, op: str, a: Lin, b: Lin) -> Lin:
         diff = a.plus(b, Fraction(-1))
@@ -376,8 +385,8 @@ def _distribute(value: ast.Expr, step: ast.If, span) -> ast.If:
     """value * (if c then a else b) as if c then value * a else value * b: a
     value times a step function (tiered prices) becomes one product per step,
     each linear when the step's amount is a constant, and exact either way."""
-    return ast.If(step.cond, ast.Binary("*", value, step.then, span=span),
-                  ast.Binary("*", value, step.otherwise, span=span), span=span)
+    return ast.If(step.cond, ast.Chain(value, (("*", step.then),), span=span),
+                  ast.Chain(value, (("*", step.otherwise),), span=span), span=span)
 
 
 def _line(e) -> str:

@@ -36,9 +36,32 @@ MAX_EXACT = 2.0**50  # numerators must stay well inside float64 and int64
 
 
 def _conv(value: Fraction) -> tuple[float, float]:
-    """A Fraction as float with the exact size of the conversion error."""
-    f = float(value)
+    """A Fraction as float with the exact size of the conversion error; a
+    value past the float range is 0 with an infinite error (undecided, so
+    the exact evaluator decides)."""
+    try:
+        f = float(value)
+    except OverflowError:
+        return 0.0, np.inf
     return f, float(abs(Fraction(f) - value)) * SAFETY + (0.0 if Fraction(f) == value else 5e-324)
+
+
+def _float_or_inf(value: Fraction) -> float:
+    """The nearest float, or an infinity of the same sign past the float range."""
+    try:
+        return float(value)
+    except OverflowError:
+        return np.inf if value > 0 else -np.inf
+
+
+def _undecided_where_overflow(val: np.ndarray, err: np.ndarray) -> None:
+    """In place: where float arithmetic left the range (inf, NaN), the value is
+    0 with an infinite error bound, so every later test calls it undecided
+    and the exact evaluator decides."""
+    bad = ~np.isfinite(val) | np.isnan(err)
+    if bad.any():
+        val[bad] = 0.0
+        err[bad] = np.inf
 
 
 def _lcm(*qs):
@@ -159,6 +182,7 @@ class Evaluator:
         if high == 0:
             vec.val[0], vec.err[0] = 0.0, 0.0
         vec.q = _lcm(*qs)
+        _undecided_where_overflow(vec.val, vec.err)
         return vec
 
     # -------------------------------------------------------------- nodes
@@ -206,13 +230,14 @@ class Evaluator:
                 spread = np.abs(np.asarray(a.val) - np.asarray(b.val)) + np.maximum(a.err, b.err)
                 err = np.where(unc, spread * SAFETY, chosen)
                 return Vec(val, err, _lcm(a.q, b.q))
+            case ast.Chain(first=first, rest=rest):
+                acc = self._eval(first)
+                for op, operand in rest:
+                    b = self._eval(operand)
+                    acc = self._logic(op, acc, b) if op in ("and", "or") else self._arith(op, acc, b, operand)
+                return acc
             case ast.Binary(op=op, left=l, right=r):
-                a, b = self._eval(l), self._eval(r)
-                if op in ("and", "or"):
-                    return self._logic(op, a, b)
-                if op in ast.COMPARISONS:
-                    return self._compare(op, a, b)
-                return self._arith(op, a, b, r)
+                return self._compare(op, self._eval(l), self._eval(r))
         raise TypeError(f"cannot vectorise {expr!r}")
 
     def _aggregate(self, func: str, attr: str) -> Vec:
@@ -238,7 +263,8 @@ class Evaluator:
     def _truth(v: Vec):
         val, err = np.asarray(v.val), np.asarray(v.err)
         truth = val != 0
-        unc = (err > 0) & ~(np.abs(val) > err)
+        # written so that a NaN (from values past the float range) is undecided
+        unc = ~((err == 0) | (np.abs(val) > err))
         return truth, unc
 
     def _logic(self, op: str, a: Vec, b: Vec) -> Vec:
@@ -258,8 +284,10 @@ class Evaluator:
     def _compare(op: str, a: Vec, b: Vec) -> Vec:
         av, bv = np.asarray(a.val), np.asarray(b.val)
         tol = (np.asarray(a.err) + np.asarray(b.err)) * (1 + 4 * U)
-        diff = np.abs(av - bv)
-        unc = (tol > 0) & ~(diff > tol)
+        with np.errstate(all="ignore"):
+            diff = np.abs(av - bv)
+        # written so that a NaN (from values past the float range) is undecided
+        unc = ~((tol == 0) | (diff > tol))
         compare = {
             "==": np.equal, "!=": np.not_equal, "<": np.less,
             "<=": np.less_equal, ">": np.greater, ">=": np.greater_equal,
@@ -361,6 +389,7 @@ def excess_chunks(worths: Worths, payouts: list[Fraction], low_bits: int | None 
         with np.errstate(all="ignore"):
             e = sign * (w.val - paid)
             e_err = (w.err + paid_err + U * np.abs(e)) * SAFETY
+        _undecided_where_overflow(e, e_err)
         v_num = _recover(w.val, w.err, w.q)
         e_num = e_den = None
         if v_num is not None:
@@ -387,7 +416,7 @@ def worth_table(worths: Worths) -> tuple[np.ndarray, tuple[np.ndarray, int] | No
         base = high << evaluator.L
         for i in loose:
             if base + int(i):
-                val[i] = float(worths.exact(base + int(i)))
+                val[i] = _float_or_inf(worths.exact(base + int(i)))
         parts.append(val)
         if exact_ok:
             num = _recover(w.val, w.err, w.q)

@@ -9,6 +9,7 @@ evaluated here too, exactly; rules that need a solver are delegated to
 
 from __future__ import annotations
 
+import math
 from fractions import Fraction
 from functools import cached_property
 
@@ -68,6 +69,10 @@ class Worths:
         from .sweep import worth_table  # lazy: numpy sweep only when a solver needs it
 
         floats, scaled = worth_table(self)
+        if not all(map(math.isfinite, floats)):
+            from .solutions.errors import SolverError
+
+            raise SolverError("some worths are beyond the float range (about 1.8e308) the payout solvers work in")
         sign = -1 if self.model.kind == "cost" else 1
         if scaled is not None:
             scaled = (scaled[0] * sign, scaled[1])
@@ -143,8 +148,8 @@ def _solution_rule(kind: str, worths: Worths) -> list[Fraction]:
         raise PayoutUnavailable(f"the `{kind}` rule is not available: {exc}") from None
     if worths.model.n > 24:
         raise PayoutUnavailable(f"the `{kind}` rule needs every coalition; {worths.model.n} parties is above 24")
-    game = worths.game()
     try:
+        game = worths.game()
         if kind == "shapley":
             return solutions.shapley(game)
         if kind == "nucleolus":

@@ -112,8 +112,8 @@ def test_syntax_error_raises_with_location() -> None:
 
 def test_unsafe_output_is_refused(monkeypatch) -> None:
     """A printer bug that changes meaning is caught by the re-parse check."""
-    monkeypatch.setattr(fmt.Printer, "_fmt_binary",
-                        lambda self, node: f"{self.fmt(node.left)} {node.op} {self.fmt(node.right)}")
+    monkeypatch.setattr(fmt.Printer, "_fmt_chain",
+                        lambda self, node: " ".join([self.fmt(node.first)] + [f"{o} {self.fmt(x)}" for o, x in node.rest]))
     with pytest.raises(fmt.FormatError, match="does not mean the same"):
         fmt.format_text('agreement "x"\nshares value\nparty a\nparty b\nworth S = 2 * (1 + count(S))\n')
 

@@ -96,10 +96,8 @@ def _expr_refs(expr: ast.Expr, kinds: dict[str, str], aggregated: bool = False) 
         for arg in expr.args:
             yield from _expr_refs(arg, kinds, is_aggregate(expr))
     else:
-        for name in ("operand", "left", "right", "cond", "then", "otherwise"):
-            child = getattr(expr, name, None)
-            if child is not None:
-                yield from _expr_refs(child, kinds)
+        for child in ast.children(expr):
+            yield from _expr_refs(child, kinds)
 
 
 def _contains(span: ast.Span, line: int, column: int) -> bool:
