@@ -71,7 +71,7 @@ def evaluate(expr: ast.Expr, env: Env) -> Fraction:
             return evaluate(then if evaluate(cond, env) != 0 else otherwise, env)
         case ast.Call(func=func, args=args):
             return _call(func, args, env, expr.span)
-        case ast.Chain(first=first, rest=rest):
+        case ast.Chain():
             return _chain(expr, env)
         case ast.Binary(op=op, left=left, right=right):
             a, b = evaluate(left, env), evaluate(right, env)

@@ -223,7 +223,7 @@ class _ToAst(Transformer_NonRecursive):
 
     def round_payouts(self, meta, items):
         text = str(items[0])
-        return ast.RoundPayouts(ast.Num(_decimal(text), text, span=span_of(items[0])), span=span_of(meta))
+        return ast.RoundPayouts(ast.Num(_decimal(text, items[0]), text, span=span_of(items[0])), span=span_of(meta))
 
     def param(self, meta, items):
         return ast.ParamDecl(self._ident(items[0], "a param"), items[1], span=span_of(meta))

@@ -18,6 +18,7 @@ is listed as not covered.
 
 from __future__ import annotations
 
+from .verdict_rules import bound_ratio, is_relative
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -94,8 +95,7 @@ def targets_of(model: Model, target: str | None = None) -> list[Target]:
         if req.kind == "stable":
             out.append(Target("stable", line, Allowance(Fraction(0))))
         elif req.kind == "within":
-            relative = isinstance(req.bound, ast.Percent)
-            out.append(Target(ast.requirement_text(req), line, Allowance(req.bound.value, relative)))
+            out.append(Target(ast.requirement_text(req), line, Allowance(bound_ratio(req), is_relative(req))))
     if not out:
         raise NoTarget("the agreement has no `require stable ...`; give a target with --target")
     for req in model.requirements:

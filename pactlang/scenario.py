@@ -121,13 +121,24 @@ def _children(node) -> list:
     """The syntax nodes directly below `node`, whatever its kind (so node kinds
     added later are rewritten too)."""
     out = []
-    for f in fields(node):
-        value = getattr(node, f.name)
+    pending = [getattr(node, f.name) for f in fields(node)]
+    while pending:  # fields may hold nodes, or tuples of nodes and tuples (a chain's `(op, operand)` pairs)
+        value = pending.pop()
         if isinstance(value, (tuple, list)):
-            out.extend(v for v in value if _is_expr(v))
+            pending.extend(value)
         elif _is_expr(value):
             out.append(value)
     return out
+
+
+def _swap(value, done: dict):
+    """`value` (a node, or a tuple holding nodes) with every rewritten node put in."""
+    if isinstance(value, (tuple, list)):
+        new = type(value)(_swap(v, done) for v in value)
+        return value if all(a is b for a, b in zip(new, value)) else new
+    if _is_expr(value):
+        return done.get(id(value), value)
+    return value
 
 
 def _is_expr(value) -> bool:
@@ -159,12 +170,9 @@ def _member_as_zero(expr, party: str):
         changes = {}
         for f in fields(node):
             value = getattr(node, f.name)
-            if isinstance(value, (tuple, list)) and any(_is_expr(v) for v in value):
-                new = type(value)(done.get(id(v), v) if _is_expr(v) else v for v in value)
-                if any(a is not b for a, b in zip(new, value)):
-                    changes[f.name] = new
-            elif _is_expr(value) and done.get(id(value), value) is not value:
-                changes[f.name] = done[id(value)]
+            new = _swap(value, done)
+            if new is not value:
+                changes[f.name] = new
         done[id(node)] = replace(node, **changes) if changes else node
     return done[id(expr)]
 

@@ -8,10 +8,10 @@ the agreement's own sign: what a party pays (cost) or receives (value).
 
 from __future__ import annotations
 
+from .verdict_rules import is_relative
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-from . import ast
 from .model import Model
 from .worths import PayoutUnavailable, Worths, payout
 
@@ -85,7 +85,7 @@ def solve_model(model: Model) -> SolveReport:
     report.alone = [v * sign for v in singles]
     if sum(singles, Fraction(0)) > game.exact(game.full):
         report.nucleolus_kind = "prenucleolus"
-    if any(r.kind == "within" and isinstance(r.bound, ast.Percent) for r in model.requirements):
+    if any(is_relative(r) for r in model.requirements):
         from .solutions.repair import least_percentage
 
         report.has_percentage = True

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ..verdict_rules import allowed_excess, bound_ratio, is_relative
 from fractions import Fraction
 
 from .. import ast
@@ -27,8 +28,7 @@ def _split_candidates(req: ast.Require, sign: int, w: list[int], scale: int, ful
     """The best split of the parties into two coalitions, searched in integers
     (`w` = worths times `scale`); [] when no split proves anything."""
     best, best_parts = None, []
-    ratio = req.bound.value if req.kind == "within" else Fraction(0)
-    relative = isinstance(req.bound, ast.Percent)
+    ratio, relative = bound_ratio(req), is_relative(req)
     for s in range(1, full, 2):  # s holds party 0: each split once
         c = full ^ s
         total = sign * (w[s] + w[c] - w[full])  # the excess sum, times scale
@@ -57,9 +57,7 @@ def _unmeetable(ctx: LintContext, req: ast.Require) -> str | None:
     sign = 1 if m.kind == "value" else -1
 
     def allowed(w: Fraction) -> Fraction:
-        if req.kind == "stable":
-            return Fraction(0)
-        return req.bound.value * abs(w) if isinstance(req.bound, ast.Percent) else req.bound.value
+        return allowed_excess(req, w)
 
     def gap(parts, worth) -> tuple[Fraction, Fraction] | None:
         worths = [worth(p) for p in parts]

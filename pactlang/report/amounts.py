@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
-from math import floor, log10
+from math import floor
 
 from ..numbers import exact_str
 
@@ -76,7 +76,20 @@ def floor_decimals(values) -> int:
     largest = max((abs(Fraction(v)) for v in values), default=Fraction(0))
     if largest == 0:
         return 0
-    return max(0, min(2, 3 - floor(log10(largest))))
+    return max(0, min(2, 3 - _magnitude(largest)))
+
+
+def _magnitude(value: Fraction) -> int:
+    """floor(log10(value)) for a positive Fraction, exactly (no float: values
+    past the float range are amounts too)."""
+    whole = value.numerator // value.denominator
+    if whole >= 1:
+        return len(str(whole)) - 1
+    k = 0
+    while value < 1 and k < MAX_DECIMALS + 2:  # below 10**-14 the floor of 0 decimals is reached anyway
+        value *= 10
+        k += 1
+    return -k
 
 
 def decimals_apart(values, start: int) -> int:

@@ -8,13 +8,13 @@ are those of `check` (shared tables and words); the charts come from
 
 from __future__ import annotations
 
-import time
+from ..verdict_rules import allowed_excess, is_relative
 from dataclasses import dataclass, field
 from fractions import Fraction
 from html import escape
 
 from ..check import CheckOptions
-from ..results import FAILS, HOLDS, UNKNOWN, FileReport, Result
+from ..results import FAILS, HOLDS, UNKNOWN, FileReport
 from .charts import MAX_CURVE_PARTIES, SAMPLES, Chart
 from .parties import MAX_SOLUTION_PARTIES, scenario_model
 from .tables import (PartyViews, RenderOptions, Table, absolute_bound, counterexample_table, headline,
@@ -108,16 +108,6 @@ def _coalition_requirement(model):
     return None
 
 
-def _allowed(req, worth: Fraction) -> Fraction:
-    from .. import ast
-
-    if req.kind in ("stable", "rational") or req.bound is None:
-        return Fraction(0)
-    if isinstance(req.bound, ast.Percent):
-        return req.bound.value * abs(worth)
-    return req.bound.value
-
-
 def _worst_excess(model, req) -> Fraction:
     """max over the coalitions `req` speaks of of excess - allowed + allowed... exactly: the worst excess."""
     from ..worths import Worths, excess, paid_by, payout
@@ -140,7 +130,7 @@ def ranged_charts(page: Page) -> None:
         return
     req_text = next((r.requirement for r in page.report.results if r.line == req.span.line), "stable") \
         if req.span else "stable"
-    bound = None if (req.bound is not None and type(req.bound).__name__ == "Percent") else _allowed(req, Fraction(0))
+    bound = None if is_relative(req) else allowed_excess(req, Fraction(0))
     for cont in model.contingencies:
         scenario = scenario_of(model, cont)
         if not scenario.ranged:
@@ -172,7 +162,6 @@ def ranged_charts(page: Page) -> None:
 
 
 def triangle(page: Page) -> None:
-    from .. import solutions
     from ..worths import Worths
     from .charts import triangle_chart
 
@@ -183,7 +172,7 @@ def triangle(page: Page) -> None:
     worths = Worths(model)
     sign = -1 if model.kind == "cost" else 1
     value = lambda mask: float(worths.value_form(mask))  # noqa: E731
-    allowed = (lambda mask: 0.0) if req is None else (lambda mask: float(_allowed(req, worths.exact(mask))))
+    allowed = (lambda mask: 0.0) if req is None else (lambda mask: float(allowed_excess(req, worths.exact(mask))))
     series = _rule_series(model)
     points = {name: [float(v * sign) for v in xs] for name, xs in series.items() if name != "alone"}
     total = float(worths.value_form(model.full))

@@ -101,7 +101,14 @@ def party_view(model: Model, result: Result, deadline: float | None = None,
     from .. import solutions
 
     sign = -1 if concrete.kind == "cost" else 1
-    game = worths.game()
+    try:
+        game = worths.game()
+    except EvaluationError as exc:  # some coalition has no worth (a division by zero): no game to solve
+        view.notes.append(f"Shapley and nucleolus not computed: {exc.message}")
+        return view
+    except (solutions.NotApplicable, solutions.SolverError, ValueError) as exc:
+        view.notes.append(f"Shapley and nucleolus not computed: {exc}")
+        return view
     for name, compute in (("shapley", solutions.shapley), ("nucleolus", solutions.nucleolus)):
         if deadline is not None and time.monotonic() > deadline:
             view.notes.append(f"{'Shapley' if name == 'shapley' else 'nucleolus'} skipped: the time limit has passed")
