@@ -159,3 +159,34 @@ def test_more_random_games_agree_on_every_backend(spec, top):
     found = backends(text, top)
     found["oracle"] = _oracle_summary(spec, top, found["enumeration"])
     assert_agree(found, text)
+
+
+# Issue 9: with the weight of a proportional payout ranged (a division by a ranged term,
+# so plain queries instead of the optimizer), `--top 1` once listed a violator of excess
+# 1/7 while {ann} has 6/7: everyone is paid 1/7 and {ann} is worth 1 [derived].
+ONE_WORTHY_PARTY = """\
+agreement "one worthy party"
+shares value
+party ann: w 1
+party bo: w 1
+party cy: w 1
+party di: w 1
+party ed: w 1
+party fa: w 1
+party gu: w 1
+worth S = ann in S
+payout by proportional to w
+require stable
+"""
+
+
+@pytest.mark.parametrize("top, listed", [
+    (1, [((0,), Fraction(6, 7))]),
+    # {ann} with any one other party: 1 - 2/7; ties in the canonical order
+    (3, [((0,), Fraction(6, 7)), ((0, 1), Fraction(5, 7)), ((0, 2), Fraction(5, 7))]),
+])
+def test_a_ranged_weight_lists_the_worst_violators_first(top, listed):
+    found = backends(ONE_WORTHY_PARTY, top)
+    assert {"z3", "z3 nonlinear", "weight corners"} <= set(found)
+    assert found["z3 nonlinear"] == [("fails", Fraction(6, 7), ("ann",), listed)]
+    assert_agree(found, ONE_WORTHY_PARTY)
