@@ -95,7 +95,7 @@ def _merge(results: tuple[Result, ...], top: int, model: Model) -> Result:
     at = (min(named, key=lambda r: rank(worst, model.mask_of(r.worst_coalition))) if named
           else tied[0] if tied else None)
     method = f"{first.method}, at every corner of the weight ranges"
-    unproved = ", counterexamples not proved to be the worst within the time limit"
+    unproved = ", counterexamples not proved to be the worst ones (query or time limit reached)"
     if any(unproved in r.method for r in failing) and unproved not in method:
         method += unproved
     if failing:

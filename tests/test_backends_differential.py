@@ -3,10 +3,14 @@
 A backend may refuse a game (the integer program cannot express a product
 of two coalition values, Z3 a rule under ranges): then it says `unknown`
 with a reason and is left out of the comparison. Every backend that answers
-must agree on the status, the exact worst excess and the counterexample
-list: the same coalitions with the same excesses, in the same order, cut at
-the same `--top`. Z3 is reached with a contingency whose only range is a
-single value, which the ranged path decides like any range.
+must agree on the status, the exact worst excess, the coalition named with
+it and the counterexample list: the same coalitions with the same excesses,
+in the same order (ties in the canonical order of `verdict_rules.rank`), cut
+at the same `--top`. Z3 is reached with a contingency whose only range is a
+single value, which the ranged path decides like any range: once with a
+linear encoding (the optimizer ranks), and, under a proportional rule, once
+with the weight ranged (a division by a ranged term: plain queries rank),
+beside the weight-corners path.
 
 About 1,500 random games run by default (a few minutes on a busy 2-core
 machine); `PACTLANG_SLOW_TESTS=1` adds 600 larger ones through Z3.

@@ -809,3 +809,19 @@ def test_a_worst_excess_tied_across_weight_corners_names_the_first_coalition(oth
     assert (within_half.status, within_half.worst_excess, within_half.worst_coalition) == (FAILS, 1, ("a",))
     assert [(c.coalition, c.excess, c.parameters["w of c"]) for c in within_half.counterexamples] == [
         (("a",), 1, 3), (("c",), 1, 1)]
+
+
+def test_a_ranked_list_not_proved_in_the_query_budget_says_so(monkeypatch):
+    # the verdict stands on a re-checked counterexample, but without the final unsat
+    # query nothing proves that no coalition belongs before the ones listed
+    import pactlang.ranged_check as ranged_check
+
+    model = model_of(TIED_ACROSS_CORNERS.format(other="0 * sum(w in S)"))
+    _, proved = check_contingency(model, model.contingencies[0], CheckOptions(top=5))
+    assert proved.status == FAILS and "not proved" not in proved.method
+    monkeypatch.setattr(ranged_check, "MAX_RANKING_QUERIES", 0)
+    monkeypatch.setattr(ranged_check, "MAX_SEED_BITS", 0)
+    _, unproved = check_contingency(model, model.contingencies[0], CheckOptions(top=5))
+    assert unproved.status == FAILS and unproved.worst_excess == 1
+    assert unproved.method.endswith("counterexamples not proved to be the worst ones (query or time limit reached)")
+    assert unproved.counterexamples and all(c.excess > F(1, 2) for c in unproved.counterexamples)
