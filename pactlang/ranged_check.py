@@ -12,7 +12,8 @@ One Boolean per party and one real per ranged quantity (see `encode_z3`):
 
 Each requirement is settled first by a plain satisfiability query; the worst
 violators are then ranked, and the worst excess found (`supremum`), in the
-time left.
+time left. A list whose order is not proved in that time (the query budget
+or the time limit ran out) says so in `method`.
 """
 
 from __future__ import annotations
@@ -244,6 +245,7 @@ class RangedCheck:
             # every excess is at most the proved supremum (below it when not attained),
             # and no allowed excess is below allowed(req, 0): nothing violates
             violators = []
+            self.order_proved = True
         else:
             violators = self.violators(cond, scope, deadline, lambda p, req=req: p.excess > allowed(req, p.worth),
                                        in_scope)
@@ -259,6 +261,9 @@ class RangedCheck:
                 self._sup_cache[which] = (None, None, ", worst excess not settled within the time limit")
         worst, worst_mask, note = self._sup_cache[which]
         status = status_of(req, worst, len(violators), budget_excess)
+        if violators and not self.order_proved:
+            # every listed coalition is re-checked, but that none is missing before them is not proved
+            note += ", counterexamples not proved to be the worst ones (query or time limit reached)"
         return self._result(req, status, worst, self._method(note), cex=cex, worst_mask=worst_mask)
 
     def _seeds_in(self, which: str, own: list[Point]) -> list[Point]:

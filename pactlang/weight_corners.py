@@ -17,7 +17,7 @@ from .model import Model
 from .ranged_check import RangedCheck
 from .results import FAILS, HOLDS, UNKNOWN, Counterexample, Result
 from .scenario import Scenario, corners
-from .verdict_rules import counterexample_order
+from .verdict_rules import counterexample_order, rank
 
 
 def weight_ranges(scenario: Scenario) -> list[Ranged]:
@@ -88,8 +88,16 @@ def _merge(results: tuple[Result, ...], top: int, model: Model) -> Result:
     unknown = [r for r in results if r.status == UNKNOWN]
     worsts = [r.worst_excess for r in results]
     worst = None if any(w is None for w in worsts) else max(worsts)
-    at = None if worst is None else next(r for r in results if r.worst_excess == worst)
+    # of the corners reaching the worst excess, the one naming the first coalition in the
+    # canonical order (fewest members, then smallest mask), as enumeration names it
+    tied = [] if worst is None else [r for r in results if r.worst_excess == worst]
+    named = [r for r in tied if r.worst_coalition is not None]
+    at = (min(named, key=lambda r: rank(worst, model.mask_of(r.worst_coalition))) if named
+          else tied[0] if tied else None)
     method = f"{first.method}, at every corner of the weight ranges"
+    unproved = ", counterexamples not proved to be the worst ones (query or time limit reached)"
+    if any(unproved in r.method for r in failing) and unproved not in method:
+        method += unproved
     if failing:
         # one line per coalition (at its worst corner); an unbalanced budget first, as in the
         # baseline, then the checker's order: excess descending, coalition size, coalition mask

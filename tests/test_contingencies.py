@@ -775,3 +775,53 @@ def test_a_worst_case_at_the_open_side_of_a_threshold_is_a_supremum_not_attained
     # the second one now reaches its worst 705 at 3800, where c(N) has already stepped up [derived]
     assert rows[1] == (("st_anne", "riverside", "northgate", "hillcrest"), F(705), F(3800))
     assert [e for _, e, _ in rows] == sorted((e for _, e, _ in rows), reverse=True)
+
+
+# Weights a, b, c = 1, 1, t with t = w of c in 1 .. 3; v(N) = 6, so a and b are paid
+# 6/(t+2), c 6t/(t+2). {a}: 2.2 - 6/(t+2), worst 1 at t = 3; {c}: 3 - 6t/(t+2), worst 1
+# at t = 1; {b}: at most -6/5; pairs and everyone else are worth 0 [derived]. The two
+# corners reach the worst excess 1 with different coalitions; enumeration names the first
+# in the canonical order, {a}, whichever corner comes first.
+TIED_ACROSS_CORNERS = """\
+agreement "tie across corners"
+shares value
+party a: w 1
+party b: w 1
+party c: w 1
+worth S = if count(S) == 3 then 6 else {other}
+worth {{a}} = 2.2
+worth {{c}} = 3
+payout by proportional to w
+contingency "c grows" {{ w of c in 1 .. 3 }}
+require stable within 1
+require stable within 0.5
+"""
+
+
+@pytest.mark.parametrize("other, method", [("0", "at every corner of the weight ranges"),
+                                           ("0 * sum(w in S)", "z3 bisection")])
+def test_a_worst_excess_tied_across_weight_corners_names_the_first_coalition(other, method):
+    # on the old code the corners' merge named the worst coalition of the first corner, {c}
+    model = model_of(TIED_ACROSS_CORNERS.format(other=other))
+    within_1, within_half = check_contingency(model, model.contingencies[0], CheckOptions(top=5))
+    assert method in within_1.method
+    assert (within_1.status, within_1.worst_excess, within_1.worst_coalition) == (HOLDS, 1, ("a",))
+    assert (within_half.status, within_half.worst_excess, within_half.worst_coalition) == (FAILS, 1, ("a",))
+    assert [(c.coalition, c.excess, c.parameters["w of c"]) for c in within_half.counterexamples] == [
+        (("a",), 1, 3), (("c",), 1, 1)]
+
+
+def test_a_ranked_list_not_proved_in_the_query_budget_says_so(monkeypatch):
+    # the verdict stands on a re-checked counterexample, but without the final unsat
+    # query nothing proves that no coalition belongs before the ones listed
+    import pactlang.ranged_check as ranged_check
+
+    model = model_of(TIED_ACROSS_CORNERS.format(other="0 * sum(w in S)"))
+    _, proved = check_contingency(model, model.contingencies[0], CheckOptions(top=5))
+    assert proved.status == FAILS and "not proved" not in proved.method
+    monkeypatch.setattr(ranged_check, "MAX_RANKING_QUERIES", 0)
+    monkeypatch.setattr(ranged_check, "MAX_SEED_BITS", 0)
+    _, unproved = check_contingency(model, model.contingencies[0], CheckOptions(top=5))
+    assert unproved.status == FAILS and unproved.worst_excess == 1
+    assert unproved.method.endswith("counterexamples not proved to be the worst ones (query or time limit reached)")
+    assert unproved.counterexamples and all(c.excess > F(1, 2) for c in unproved.counterexamples)

@@ -273,6 +273,24 @@ class Oracle:
                 out.append(dict(zip(fkeys, pt)) | dict(zip(wkeys, corner)))
         return out
 
+    def ranked_violators(self, top: int) -> dict[str, list[tuple[tuple[int, ...], Fraction]]]:
+        """The counterexample list of each requirement with a fixed allowance:
+        every coalition whose worst excess (its largest over the candidates,
+        which hold every coalition's maximum) exceeds the allowance, worst
+        first, then fewer members, then the smaller mask, cut at `top`."""
+        s = self.s
+        cands = self.candidates()
+        worst = {m: max(self.excess(m, pt)[0] for pt in cands)
+                 for size in range(1, s.n) for m in combinations(range(s.n), size)}
+
+        def listed(members, allowed):
+            hits = [(m, e) for m, e in worst.items() if e > allowed and m in members]
+            hits.sort(key=lambda me: (-me[1], len(me[0]), sum(1 << i for i in me[0])))
+            return hits[:top]
+
+        return {f"stable within {num(s.eps)}": listed(worst, s.eps),
+                "individually rational": listed({(i,) for i in range(s.n)}, F(0))}
+
     def verdicts(self) -> dict[str, tuple[str, Fraction]]:
         s = self.s
         cands = self.candidates()
@@ -364,10 +382,16 @@ def run_and_compare(s: Spec) -> None:
     results = check_contingency(model, model.contingencies[0], CheckOptions(top=3, time_limit=60))
     expected = Oracle(s).verdicts()
     oracle = Oracle(s)
+    ranked = oracle.ranked_violators(top=3)
     for r in results:
         status, sup = expected[r.requirement]
         assert r.status == status, (text, r)
         assert r.worst_excess == sup, (text, r, sup)
+        if r.requirement in ranked:
+            # the list itself: each violating coalition at its worst, worst first, ties in
+            # the canonical order (fewer members, then smaller mask), cut at --top
+            listed = [(tuple(model.index(p) for p in c.coalition), c.excess) for c in r.counterexamples]
+            assert listed == ranked[r.requirement], (text, listed, ranked[r.requirement])
         for c in r.counterexamples:
             # every counterexample re-checked by the oracle, with its own values
             members = tuple(model.index(p) for p in c.coalition)
