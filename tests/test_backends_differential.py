@@ -134,7 +134,7 @@ def _oracle_summary(spec, top, reference):
     return [(w["status"], w["worst"], r[2], w["cex"]) for w, r in zip(oracle(spec, top=top), reference)]
 
 
-@settings(max_examples=1200, deadline=None, suppress_health_check=[HealthCheck.too_slow],
+@settings(max_examples=2000, deadline=None, suppress_health_check=[HealthCheck.too_slow],
           derandomize=True)
 @given(specs(max_n=6, linear=True), st.sampled_from([1, 2, 3, 5]), st.sampled_from([None, 2]))
 def test_random_games_agree_on_enumeration_milp_and_oracle(spec, top, low_bits):
@@ -144,7 +144,7 @@ def test_random_games_agree_on_enumeration_milp_and_oracle(spec, top, low_bits):
     assert_agree(found, text)
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow],
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow],
           derandomize=True)
 @given(specs(max_n=5, linear=True), st.sampled_from([1, 3, 5]))
 def test_random_games_agree_on_z3_with_a_single_value_range(spec, top):

@@ -26,8 +26,8 @@ from pactlang.lint import lint_model
 from pactlang.load import load_text
 from pactlang.parse import parse_text
 
-COUNT = 1200  # texts through parse and fmt per run
-FULL_EVERY = 10  # every 10th text also goes through lint, check, solve and repair (about a minute in all)
+COUNT = 3000  # texts through parse and fmt per run
+FULL_EVERY = 6  # every 6th text (500 in all) also goes through lint, check, solve and repair
 SEED = 20261202
 ROOT = Path(__file__).resolve().parent.parent
 MAX_PARTIES = 6  # bundled agreements small enough to check in milliseconds
