@@ -66,16 +66,7 @@ class ExactPoints:
 
     def fixed_model(self, values: dict[str, Fraction]):
         """The agreement with its ranged quantities at these values."""
-        attrs, params, worths = {}, {}, {}
-        for r in self.scenario.ranged:
-            v = values[r.key]
-            if r.kind == "attribute":
-                attrs[(r.attribute, r.party)] = v
-            elif r.kind == "param":
-                params[r.param] = v
-            else:
-                worths[r.mask] = v
-        return self.model.with_values(attributes=attrs, params=params, worths=worths)
+        return self.scenario.at(values)
 
     def point(self, mask: int, values: dict[str, Fraction]) -> Point:
         """The coalition `mask` at these values, evaluated exactly."""

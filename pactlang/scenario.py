@@ -29,6 +29,22 @@ class Scenario:
     fixed: dict[str, Fraction] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
 
+    def at(self, values: dict[str, Fraction]) -> Model:
+        """The agreement with every ranged quantity at its value in `values`
+        (keys as `Ranged.key`; a missing one at the low end of its range)."""
+        attrs, params, worths = {}, {}, {}
+        for r in self.ranged:
+            value = values.get(r.key, r.low)
+            if r.kind == "attribute":
+                attrs[(r.attribute, r.party)] = value
+            elif r.kind == "param":
+                params[r.param] = value
+            else:
+                worths[r.mask] = value
+        if not (attrs or params or worths):
+            return self.model
+        return self.model.with_values(attributes=attrs, params=params, worths=worths)
+
 
 def worth_key(names) -> str:
     """The name users see for the worth of a listed coalition: `worth {a, b}`."""

@@ -59,19 +59,7 @@ def scenario_model(model: Model, contingency: str | None, values: dict[str, Frac
     found = [c for c in model.contingencies if c.name == contingency]
     if not found:
         return model
-    scenario = scenario_of(model, found[0])
-    attrs, params, worths = {}, {}, {}
-    for r in scenario.ranged:
-        value = (values or {}).get(r.key, r.low)
-        if r.kind == "attribute":
-            attrs[(r.attribute, r.party)] = value
-        elif r.kind == "param":
-            params[r.param] = value
-        else:
-            worths[r.mask] = value
-    if attrs or params or worths:
-        return scenario.model.with_values(attributes=attrs, params=params, worths=worths)
-    return scenario.model
+    return scenario_of(model, found[0]).at(values or {})
 
 
 def party_view(model: Model, result: Result, deadline: float | None = None,
