@@ -15,10 +15,9 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 
 from .check import CheckOptions, check_model
-from .diagnostics import AgreementError, Diagnostic
+from .diagnostics import AgreementError, Diagnostic, error
 from .formula import EvaluationError
-from .load import FILE_START, load_text, read_text
-from .diagnostics import error
+from .load import FILE_START, decode_source, load_text, read_text
 from .results import FAILS, HOLDS, Result
 from .worths import PayoutUnavailable, Worths, payout
 
@@ -114,10 +113,7 @@ def read_version_text(spec: str) -> tuple[str | None, str]:
             return None, spec
         first = message.splitlines()[-1] if message else "git failed"
         raise VersionError(f"cannot read `{spec}` from git: {first.removeprefix('fatal: ')}")
-    try:
-        return done.stdout.decode("utf-8"), spec
-    except UnicodeDecodeError:
-        raise AgreementError([error("encoding", "the file is not valid UTF-8", FILE_START)]) from None
+    return decode_source(done.stdout).text, spec  # as a file is read: BOM, CR line ends, located errors
 
 
 def analyse_version(spec: str, options: CheckOptions) -> Version:

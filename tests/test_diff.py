@@ -144,3 +144,12 @@ def test_bad_revision_and_bad_input_exit_two(repo: Path) -> None:
     assert done.returncode == 2 and "broken.deal:4:" in done.stderr
     done = run_diff(repo, "pump.deal", "missing.deal")
     assert done.returncode == 2 and "missing.deal:1:1: error: no such file" in done.stderr
+
+
+def test_a_revision_is_decoded_like_a_file(repo: Path) -> None:
+    # A BOM and CR LF line ends, as some editors save them, in the committed version.
+    (repo / "pump.deal").write_bytes(("\ufeff" + NEW).replace("\n", "\r\n").encode("utf-8"))
+    _git(repo, "commit", "-qam", "windows line ends")
+    done = run_diff(repo, "HEAD:pump.deal", "HEAD~1:pump.deal", "--format", "json")
+    assert done.returncode == 0, done.stderr
+    assert {r["change"] for r in json.loads(done.stdout)["requirements"]} == {"unchanged"}
