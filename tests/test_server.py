@@ -552,7 +552,9 @@ async def test_a_hundred_edits_with_hovers_keep_memory_flat_and_publish_only_the
           f"after the final check; server threads {threads_before} -> {threads}")
     # the old server ran every payout in a thread of its own: gigabytes and a thread per hover
     assert peak < before + 250 and after < before + 250
-    assert threads <= threads_before + 2
+    # a small pool may grow (asyncio's default executor holds up to cpu + 4 threads),
+    # but not with the number of hovers: the old server's 100 hovers meant 100 threads
+    assert threads <= threads_before + 8
     close_doc(client, uri)
 
 
